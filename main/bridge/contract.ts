@@ -1,0 +1,352 @@
+/**
+ * The one typed contract between the screen and the bench service. Both hosts carry
+ * exactly this: the Electron preload over IPC, and the loopback web host over a
+ * WebSocket. Pure (zod only), so the renderer imports it as it is.
+ *
+ * The screen is never trusted: every request is parsed with `parseRequest` on the
+ * service side before anything acts on it, and every size is capped here, once.
+ *
+ * Time: readings travel on the run clock (s since the first reading of the run).
+ * `state.timeZero_s` is the run-clock time of mixing ("mixed"); the analysis and the
+ * fit window are in time after mixing, t = time_s − timeZero_s.
+ */
+import { z } from 'zod';
+
+export const CONTRACT_VERSION = 1;
+
+/** Size caps, in one place; both hosts and the service enforce them. */
+export const LIMITS = Object.freeze({
+  /** A request message (JSON text) from the screen, in bytes. */
+  maxRequestBytes: 64 * 1024,
+  /** One readings batch pushed to the screen. */
+  maxBatchPoints: 4096,
+  maxShortText: 200,
+  maxNote: 1000,
+  maxPath: 4096,
+  maxFileName: 255,
+  maxConcentrations: 20,
+  maxPorts: 256,
+  maxRecords: 1000,
+  maxWarnings: 200,
+});
+
+/** The results are pushed no more often than this (≤ 20 per second). */
+export const MIN_ANALYSIS_INTERVAL_MS = 50;
+/** Readings are batched for at most this long before they are pushed. */
+export const READINGS_BATCH_MS = 50;
+
+/** IPC channel names (Electron) and the WebSocket path (web host). */
+export const CHANNELS = Object.freeze({
+  request: 'rateline:request',
+  event: 'rateline:event',
+});
+export const SOCKET_PATH = '/bridge';
+/** Query parameter and header that carry the web host's per-launch token. */
+export const TOKEN_PARAM = 'token';
+export const TOKEN_HEADER = 'x-rateline-token';
+
+const shortText = z.string().max(LIMITS.maxShortText);
+const finite = z.number(); // zod 4 numbers reject NaN and ±Infinity
+const nonNegInt = z.number().int().min(0);
+
+export const BAUD_RATES = [1200, 2400, 4800, 9600, 19200, 38400, 57600, 115200, 230400, 460800, 921600] as const;
+
+// ---------------------------------------------------------------- sources
+
+export const SourceChoiceSchema = z.discriminatedUnion('kind', [
+  z.object({
+    kind: z.literal('simulated'),
+    /** Simulated seconds per real second. */
+    speed: z.number().min(0.1).max(10_000).optional(),
+    seed: z.number().int().min(0).max(2 ** 32 - 1).optional(),
+  }).strict(),
+  z.object({
+    kind: z.literal('serial'),
+    path: z.string().min(1).max(LIMITS.maxPath),
+    baud: z.union(BAUD_RATES.map((b) => z.literal(b)) as [z.ZodLiteral<number>, ...z.ZodLiteral<number>[]]),
+  }).strict(),
+  z.object({
+    kind: z.literal('replay'),
+    /** A record in the runs folder, by file name only (no folders: the service resolves it). */
+    file: z.string().min(1).max(LIMITS.maxFileName).regex(/^[^/\\]+$/, 'a file name without folders')
+      .refine((s) => s !== '.' && s !== '..', 'a file name without folders'),
+    speed: z.union([z.number().min(1).max(100), z.literal('max')]).optional(),
+  }).strict(),
+]);
+export type SourceChoice = z.infer<typeof SourceChoiceSchema>;
+
+export const RejectReasonSchema = z.enum([
+  'checksum', 'malformed', 'overlong', 'nonFinite', 'timeBackwards', 'unitChange', 'binaryNoise', 'unknownType',
+]);
+export type RejectReasonName = z.infer<typeof RejectReasonSchema>;
+export const RejectCountsSchema = z.record(RejectReasonSchema, nonNegInt);
+export type RejectCounts = z.infer<typeof RejectCountsSchema>;
+
+const IdentitySchema = z.object({
+  maker: shortText, model: shortText, serial: shortText, firmware: shortText,
+  sends: z.enum(['absorbance', 'counts']),
+});
+
+export const SourceStatusSchema = z.discriminatedUnion('kind', [
+  z.object({ kind: z.literal('connecting'), detail: shortText }),
+  z.object({ kind: z.literal('connected'), detail: shortText, identity: IdentitySchema.optional() }),
+  z.object({ kind: z.literal('disconnected'), detail: shortText }),
+  z.object({ kind: z.literal('reconnecting'), attempt: nonNegInt, delay_ms: finite, detail: shortText }),
+  z.object({ kind: z.literal('stale'), sinceLastReading_ms: finite, detail: shortText }),
+  z.object({ kind: z.literal('ended'), detail: shortText }),
+  z.object({ kind: z.literal('error'), message: z.string().max(LIMITS.maxNote) }),
+]);
+export type SourceStatusView = z.infer<typeof SourceStatusSchema>;
+
+// ---------------------------------------------------------------- run details
+
+export const ConcentrationSchema = z.object({
+  name: z.string().min(1).max(80),
+  value: z.number().min(0),
+  unit: z.string().max(20),
+}).strict();
+
+export const SampleDetailsSchema = z.object({
+  sample: shortText.optional(),
+  operator: shortText.optional(),
+  temperature_C: z.number().min(-50).max(200).nullable().optional(),
+  concentrations: z.array(ConcentrationSchema).max(LIMITS.maxConcentrations).optional(),
+  notes: z.string().max(LIMITS.maxNote).optional(),
+}).strict();
+export type SampleDetails = z.infer<typeof SampleDetailsSchema>;
+
+export const FitWindowSchema = z.object({
+  from_s: z.number().min(0).nullable(),
+  to_s: z.number().min(0).nullable(),
+}).strict().refine((w) => w.from_s === null || w.to_s === null || w.from_s < w.to_s, {
+  message: 'the fit window must start before it ends',
+});
+export type FitWindow = z.infer<typeof FitWindowSchema>;
+
+export const AnalysisOptionsSchema = z.object({
+  targetHalfLives: z.number().min(0.5).max(10).optional(),
+  precision: z.number().min(0.001).max(0.5).optional(),
+  weighted: z.boolean().optional(),
+  robust: z.boolean().optional(),
+}).strict();
+export type AnalysisOptionsView = z.infer<typeof AnalysisOptionsSchema>;
+
+// ---------------------------------------------------------------- requests
+
+export const RequestSchema = z.discriminatedUnion('type', [
+  z.object({ type: z.literal('getState') }).strict(),
+  z.object({ type: z.literal('listPorts') }).strict(),
+  z.object({ type: z.literal('listRecords') }).strict(),
+  z.object({ type: z.literal('chooseSource'), source: SourceChoiceSchema }).strict(),
+  z.object({ type: z.literal('connect') }).strict(),
+  z.object({ type: z.literal('disconnect') }).strict(),
+  z.object({ type: z.literal('takeBlank') }).strict(),
+  z.object({ type: z.literal('setWavelength'), wavelength_nm: z.number().min(190).max(1100) }).strict(),
+  z.object({ type: z.literal('start') }).strict(),
+  z.object({ type: z.literal('stop') }).strict(),
+  z.object({ type: z.literal('markEvent'), note: z.string().max(LIMITS.maxNote) }).strict(),
+  /** Time zero now: the moment the reagents were mixed. */
+  z.object({ type: z.literal('mixed') }).strict(),
+  z.object({ type: z.literal('setSampleDetails'), details: SampleDetailsSchema }).strict(),
+  z.object({ type: z.literal('setFitWindow'), window: FitWindowSchema }).strict(),
+  z.object({ type: z.literal('setAnalysisOptions'), options: AnalysisOptionsSchema }).strict(),
+  /** Electron: a native open dialog; the chosen record becomes the replay source. Web host: not offered. */
+  z.object({ type: z.literal('openRecord') }).strict(),
+  /** Electron: a native save dialog. Web host: written into the runs folder's exports/. */
+  z.object({ type: z.literal('saveExport'), format: z.enum(['csv']) }).strict(),
+]);
+export type BridgeRequest = z.infer<typeof RequestSchema>;
+export type RequestType = BridgeRequest['type'];
+export type RequestOf<T extends RequestType> = Extract<BridgeRequest, { type: T }>;
+
+// ---------------------------------------------------------------- analysis result (mirrors kinetics/analysisTypes.ts)
+
+const nullableNum = z.number().nullable();
+const ci = z.tuple([finite, finite]).nullable();
+const ModelSummarySchema = z.object({
+  k: nullableNum, kStdErr: nullableNum, kCI95: ci,
+  a0: nullableNum, a0StdErr: nullableNum,
+  aInf: nullableNum, aInfStdErr: nullableNum, aInfFixed: z.boolean(),
+  halfLife_s: nullableNum, halfLifeStdErr_s: nullableNum,
+  aicc: nullableNum, rss: nullableNum, chiSquare: nullableNum, dof: nullableNum,
+  runsTestP: nullableNum, converged: z.boolean(), warnings: z.array(z.string()).max(LIMITS.maxWarnings),
+});
+const order = z.enum(['zero', 'first', 'second']);
+export const AnalysisResultSchema = z.object({
+  points: nonNegInt,
+  duration_s: finite,
+  pointsInWindow: nonNegInt,
+  window: z.object({ from_s: nullableNum, to_s: nullableNum }),
+  verdict: z.object({
+    order: z.enum(['zero', 'first', 'second', 'undecided']),
+    weights: z.object({ zero: nullableNum, first: nullableNum, second: nullableNum }),
+    reason: z.string(),
+  }),
+  models: z.object({
+    zero: ModelSummarySchema, first: ModelSummarySchema, second: ModelSummarySchema,
+    nth: ModelSummarySchema.extend({ order: nullableNum, orderStdErr: nullableNum }),
+  }),
+  drivingModel: order,
+  halfLivesElapsed: nullableNum,
+  fractionConverted: nullableNum,
+  targetHalfLives: finite,
+  stop: z.object({
+    state: z.enum(['gathering', 'estimating', 'settled', 'farEnough']),
+    suggested: z.boolean(),
+    atTime_s: nullableNum,
+    predictedAt_s: nullableNum,
+    predictedAtStdErr_s: nullableNum,
+    earlyStopPossible: z.boolean(),
+    kRelCI95Now: nullableNum,
+    kRelCI95AtTarget: nullableNum,
+    reason: z.string(),
+  }),
+  outliers: z.array(nonNegInt),
+  units: z.object({
+    time: z.literal('s'),
+    signal: z.string(),
+    k: z.object({ zero: z.string(), first: z.string(), second: z.string(), nth: z.string() }),
+  }),
+  warnings: z.array(z.string()).max(LIMITS.maxWarnings),
+  uncertaintyNote: z.string(),
+});
+export type AnalysisResultView = z.infer<typeof AnalysisResultSchema>;
+
+// ---------------------------------------------------------------- state and events
+
+export const PhaseSchema = z.enum(['idle', 'connecting', 'connected', 'running', 'stopped', 'error']);
+export type BenchPhase = z.infer<typeof PhaseSchema>;
+
+export const BenchStateSchema = z.object({
+  contractVersion: z.literal(CONTRACT_VERSION),
+  host: z.enum(['electron', 'web']),
+  phase: PhaseSchema,
+  source: SourceChoiceSchema,
+  /** Plain label for the source, e.g. "simulated instrument (demo data), 50× speed". */
+  sourceLabel: shortText,
+  /** The simulated instrument plays invented demo data: the screen labels it so. */
+  demo: z.boolean(),
+  sourceStatus: SourceStatusSchema.nullable(),
+  wavelength_nm: z.number().nullable(),
+  blankTaken: z.boolean(),
+  /** Identifies the current run; readings and results carry it, a new run starts a new one. */
+  runId: z.string().max(64).nullable(),
+  pointCount: nonNegInt,
+  timeZero_s: z.number().nullable(),
+  sampleDetails: SampleDetailsSchema,
+  fitWindow: z.object({ from_s: nullableNum, to_s: nullableNum }),
+  analysisOptions: z.object({
+    targetHalfLives: finite, precision: finite, weighted: z.boolean(), robust: z.boolean(),
+  }),
+  recordPath: z.string().max(LIMITS.maxPath).nullable(),
+  dataDir: z.string().max(LIMITS.maxPath),
+  rejected: RejectCountsSchema,
+  /** Readings per second over the last few seconds (host clock), null before two readings. */
+  readingRate_perSecond: z.number().nullable(),
+});
+export type BenchState = z.infer<typeof BenchStateSchema>;
+
+export const ReadingsBatchSchema = z.object({
+  type: z.literal('readings'),
+  runId: z.string().max(64),
+  /** Index (in run order) of the first reading in this batch. */
+  fromIndex: nonNegInt,
+  time_s: z.array(finite).max(LIMITS.maxBatchPoints),
+  absorbance: z.array(finite).max(LIMITS.maxBatchPoints),
+  /** Bit set per reading (see ReadingFlag in acquisition/sourceTypes.ts). */
+  flags: z.array(nonNegInt).max(LIMITS.maxBatchPoints),
+}).refine((b) => b.time_s.length === b.absorbance.length && b.flags.length === b.time_s.length, {
+  message: 'readings batch arrays must have one length',
+});
+export type ReadingsBatch = z.infer<typeof ReadingsBatchSchema>;
+
+export const EventSchema = z.union([
+  z.object({ type: z.literal('state'), state: BenchStateSchema }),
+  ReadingsBatchSchema,
+  z.object({ type: z.literal('analysis'), runId: z.string().max(64), atCount: nonNegInt, result: AnalysisResultSchema }),
+  z.object({ type: z.literal('sourceStatus'), status: SourceStatusSchema }),
+  z.object({
+    type: z.literal('rejected'), counts: RejectCountsSchema, reason: RejectReasonSchema,
+    /** The start of the rejected line, printable characters only. */
+    line: z.string().max(120),
+  }),
+  z.object({ type: z.literal('warning'), message: z.string().max(LIMITS.maxNote), at: z.string().max(40) }),
+  z.object({ type: z.literal('record'), path: z.string().max(LIMITS.maxPath), status: z.enum(['open', 'closed']) }),
+]);
+export type BridgeEvent = z.infer<typeof EventSchema>;
+export type EventType = BridgeEvent['type'];
+
+// ---------------------------------------------------------------- replies
+
+export const PortInfoSchema = z.object({
+  path: z.string().max(LIMITS.maxPath),
+  manufacturer: shortText.nullable(),
+  serialNumber: shortText.nullable(),
+});
+export const RecordInfoSchema = z.object({
+  name: z.string().max(LIMITS.maxFileName),
+  size_bytes: nonNegInt,
+  modified: z.string().max(40),
+});
+
+/** What each request answers with when it succeeds. */
+export const ReplyValueSchemas = {
+  getState: BenchStateSchema,
+  listPorts: z.object({ ports: z.array(PortInfoSchema).max(LIMITS.maxPorts) }),
+  listRecords: z.object({ records: z.array(RecordInfoSchema).max(LIMITS.maxRecords) }),
+  chooseSource: BenchStateSchema,
+  connect: BenchStateSchema,
+  disconnect: BenchStateSchema,
+  takeBlank: BenchStateSchema,
+  setWavelength: BenchStateSchema,
+  start: BenchStateSchema,
+  stop: BenchStateSchema,
+  markEvent: z.object({ at_s: z.number().nullable() }),
+  mixed: BenchStateSchema,
+  setSampleDetails: BenchStateSchema,
+  setFitWindow: BenchStateSchema,
+  setAnalysisOptions: BenchStateSchema,
+  /** null path: the dialog was cancelled. */
+  openRecord: z.object({ path: z.string().max(LIMITS.maxPath).nullable(), state: BenchStateSchema }),
+  saveExport: z.object({ path: z.string().max(LIMITS.maxPath).nullable() }),
+} as const satisfies Record<RequestType, z.ZodType>;
+
+export type ReplyValue<T extends RequestType> = z.infer<(typeof ReplyValueSchemas)[T]>;
+/** Errors are values with one plain sentence (what, where, what to do). */
+export type Reply<T extends RequestType> = { ok: true; value: ReplyValue<T> } | { ok: false; error: string };
+export type AnyReply = { ok: true; value: unknown } | { ok: false; error: string };
+
+// ---------------------------------------------------------------- the socket's framing (web host)
+
+export const ClientMessageSchema = z.object({
+  kind: z.literal('request'),
+  id: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER),
+  request: z.unknown(),
+}).strict();
+export type ClientMessage = { kind: 'request'; id: number; request: BridgeRequest };
+export type ServerMessage =
+  | { kind: 'reply'; id: number | null; reply: AnyReply }
+  | { kind: 'event'; event: BridgeEvent };
+
+// ---------------------------------------------------------------- what the screen sees
+
+/** The bridge as the screen sees it, whichever host carries it (window.rateline in Electron). */
+export interface RatelineBridge {
+  request<T extends RequestType>(request: RequestOf<T>): Promise<Reply<T>>;
+  /** Subscribe to pushed events; returns the unsubscribe function. */
+  onEvent(listener: (event: BridgeEvent) => void): () => void;
+}
+
+/** Parse a request from the screen; an error is one line naming the field at fault. */
+export function parseRequest(input: unknown): { ok: true; request: BridgeRequest } | { ok: false; error: string } {
+  const parsed = RequestSchema.safeParse(input);
+  if (parsed.success) return { ok: true, request: parsed.data };
+  return { ok: false, error: `request refused: ${describeIssue(parsed.error)}` };
+}
+
+export function describeIssue(error: z.ZodError): string {
+  const issue = error.issues[0];
+  if (!issue) return 'invalid input';
+  const where = issue.path.length ? issue.path.map(String).join('.') : 'message';
+  return `${where}: ${issue.message}`;
+}
