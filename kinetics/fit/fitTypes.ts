@@ -64,23 +64,36 @@ export interface FitResult {
   parameters: FittedParameter[];
   /** Look-up by name. */
   byName: Record<string, FittedParameter>;
-  /** Covariance of the free parameters (row-major, size nFree²), in the order of `freeNames`. */
-  covariance: Float64Array;
-  correlation: Float64Array;
+  /**
+   * Covariance of the free parameters (row-major, size nFree²), in the order of `freeNames`,
+   * (JᵀWJ)⁻¹ · χ²/dof. Null (with a warning) when singular or when dof ≤ 0.
+   */
+  covariance: Float64Array | null;
+  correlation: Float64Array | null;
   freeNames: string[];
   /** Σ w_i r_i² with the final weights (robust weights included). */
   chiSquare: number;
   /** Σ r_i², unweighted. */
   rss: number;
   dof: number;
-  /** Residual standard deviation sqrt(chiSquare / dof). */
-  residualSd: number;
-  /** AICc from the weighted residuals (n ln(χ²/n) + 2k + 2k(k+1)/(n−k−1)). */
-  aicc: number;
+  /** Residual standard deviation sqrt(chiSquare / dof); null (with a warning) when dof ≤ 0. */
+  residualSd: number | null;
+  /**
+   * AICc from the weighted residuals, n ln(χ²/n) + 2K + 2K(K+1)/(n−K−1) with K = nFree + 1
+   * (the +1 counts the residual variance, estimated from the data). Null (with a warning)
+   * when n ≤ K + 1 or χ² = 0.
+   */
+  aicc: number | null;
   n: number;
   iterations: number;
   converged: boolean;
   /** Indices of points the robust loss down-weighted below half weight. */
   outliers: number[];
   warnings: string[];
+  /** Residuals y − f(x; p) of the `count` points at the final parameters (0 for points left out). */
+  residuals?: Float64Array;
+  /** Final robust weight of each point (1 = full weight), null when the fit was not robust. */
+  robustWeights?: Float64Array | null;
+  /** Confidence level of the intervals. */
+  confidence?: number;
 }

@@ -1,0 +1,165 @@
+/**
+ * What a finished fit reports: covariance, standard errors, correlations,
+ * Student-t intervals, goodness of fit and AICc, and the plain-language warnings.
+ *
+ * Covariance = (JᵀWJ)⁻¹ · χ²/dof with J at the final parameters and W the final
+ * weights (robust weights included), dof = n − nFree. Parameters on a bound keep
+ * their row: with projection the model is not transformed, so the covariance is
+ * the untransformed one, but its meaning is doubtful there and a warning says so.
+ *
+ * AICc = n ln(χ²/n) + 2K + 2K(K+1)/(n − K − 1), K = nFree + 1: the +1 counts the
+ * residual variance, which least squares estimates from the data too (the usual
+ * convention for least-squares AIC). Only differences between models fitted to the
+ * same points and weights mean anything.
+ */
+import type { FitProblem, FitResult, FittedParameter } from './fitTypes';
+import { evaluateJacobian, evaluateResiduals, normalEquations, type LmBuffers, type LmProblem } from './levenbergMarquardt';
+import { invertSymmetricPositive } from './cholesky';
+import { studentTQuantile } from './studentT';
+
+export interface FitOutcomeParts {
+  problem: FitProblem;
+  lm: LmProblem;
+  buf: LmBuffers;
+  baseW: Float64Array;
+  robustW: Float64Array | null;
+  used: number;
+  iterations: number;
+  converged: boolean;
+  confidence: number;
+  warnings: string[];
+}
+
+export function assembleFitResult(parts: FitOutcomeParts): FitResult {
+  const { problem, lm, buf, baseW, robustW, used, confidence, warnings } = parts;
+  const specs = problem.parameters;
+  const m = lm.free.length;
+  const n = lm.n;
+  const p = lm.p;
+  const chiSquare = evaluateResiduals(lm, p, buf.r);
+  let rss = 0;
+  for (let i = 0; i < n; i++) if (baseW[i]! > 0) rss += buf.r[i]! * buf.r[i]!;
+  const dof = used - m;
+
+  let covariance: Float64Array | null = null;
+  let correlation: Float64Array | null = null;
+  if (m > 0 && dof > 0) {
+    evaluateJacobian(lm, p, buf);
+    const finite = normalEquations(lm, buf);
+    const inv = new Float64Array(m * m);
+    if (finite && invertSymmetricPositive(buf.jtj, m, inv, new Float64Array(m * m + m))) {
+      const s2 = chiSquare / dof;
+      for (let k = 0; k < m * m; k++) inv[k] = inv[k]! * s2;
+      covariance = inv;
+      correlation = new Float64Array(m * m);
+      for (let i = 0; i < m; i++) {
+        for (let j = 0; j < m; j++) {
+          const d = Math.sqrt(inv[i * m + i]! * inv[j * m + j]!);
+          correlation[i * m + j] = i === j ? 1 : d > 0 ? inv[i * m + j]! / d : 0;
+        }
+      }
+    } else {
+      warnings.push(
+        'the covariance matrix is singular: a parameter does not affect the model at these values, or two parameters cannot be told apart; standard errors are not available.',
+      );
+    }
+  } else if (m > 0) {
+    warnings.push(`too few points for standard errors: ${used} point(s) for ${m} free parameter(s); at least ${m + 1} are needed.`);
+  }
+
+  const tq = dof > 0 ? studentTQuantile(0.5 + confidence / 2, dof) : NaN;
+  const parameters: FittedParameter[] = [];
+  const byName: Record<string, FittedParameter> = {};
+  const freeNames: string[] = [];
+  let j = 0;
+  for (let k = 0; k < specs.length; k++) {
+    const spec = specs[k]!;
+    const value = p[k]!;
+    const fixed = spec.fixed === true;
+    let stdErr: number | null = null;
+    let ci: [number, number] | null = null;
+    let atBound = false;
+    if (!fixed) {
+      freeNames.push(spec.name);
+      atBound = value <= lm.lower[j]! || value >= lm.upper[j]!;
+      if (covariance) {
+        stdErr = Math.sqrt(covariance[j * m + j]!);
+        ci = [value - tq * stdErr, value + tq * stdErr];
+      }
+      if (atBound) {
+        const side = value <= lm.lower[j]! ? 'lower' : 'upper';
+        warnings.push(`parameter "${spec.name}" ended at its ${side} bound (${value}); its standard error assumes the bound is not in the way.`);
+      }
+      j++;
+    }
+    const fp: FittedParameter = { name: spec.name, value, stdErr, ci, fixed, atBound };
+    parameters.push(fp);
+    byName[spec.name] = fp;
+  }
+
+  const residualSd = dof > 0 ? Math.sqrt(chiSquare / dof) : null;
+  const K = m + 1;
+  let aicc: number | null = null;
+  if (used - K - 1 <= 0) warnings.push(`AICc needs at least ${K + 2} points for ${m} free parameter(s); it is not available.`);
+  else if (!(chiSquare > 0)) warnings.push('the model passes exactly through every point (χ² = 0); AICc is not defined.');
+  else aicc = used * Math.log(chiSquare / used) + 2 * K + (2 * K * (K + 1)) / (used - K - 1);
+
+  const outliers: number[] = [];
+  if (robustW) for (let i = 0; i < n; i++) if (baseW[i]! > 0 && robustW[i]! < 0.5) outliers.push(i);
+
+  return {
+    ok: true,
+    parameters,
+    byName,
+    covariance,
+    correlation,
+    freeNames,
+    chiSquare,
+    rss,
+    dof,
+    residualSd,
+    aicc,
+    n: used,
+    iterations: parts.iterations,
+    converged: parts.converged,
+    outliers,
+    warnings,
+    residuals: Float64Array.from(buf.r.subarray(0, n)),
+    robustWeights: robustW,
+    confidence,
+  };
+}
+
+/** A fit that could not be run: the starting values, nothing estimated, one reason. */
+export function failedFit(problem: FitProblem, reason: string, earlier: string[] = []): FitResult {
+  const parameters: FittedParameter[] = [];
+  const byName: Record<string, FittedParameter> = {};
+  const freeNames: string[] = [];
+  for (const s of problem.parameters) {
+    const fp: FittedParameter = { name: s.name, value: s.value, stdErr: null, ci: null, fixed: s.fixed === true, atBound: false };
+    parameters.push(fp);
+    byName[s.name] = fp;
+    if (!s.fixed) freeNames.push(s.name);
+  }
+  return {
+    ok: false,
+    parameters,
+    byName,
+    covariance: null,
+    correlation: null,
+    freeNames,
+    chiSquare: NaN,
+    rss: NaN,
+    dof: 0,
+    residualSd: null,
+    aicc: null,
+    n: 0,
+    iterations: 0,
+    converged: false,
+    outliers: [],
+    warnings: [...earlier, reason],
+    residuals: new Float64Array(0),
+    robustWeights: null,
+    confidence: problem.options?.confidence ?? 0.95,
+  };
+}
