@@ -8,6 +8,13 @@
  * Box bounds are kept by projection with an active set: a parameter sitting on a
  * bound whose gradient points outward is left out of the step, and every trial
  * point is clamped into the box.
+ *
+ * A trial step is also refused when the model bends too much along it: the
+ * geodesic acceleration a = −(JᵀWJ + λD)⁻¹ JᵀW f_vv (f_vv the second directional
+ * derivative along the step v, by a finite difference) must satisfy
+ * 2‖a‖/‖v‖ ≤ 0.75 in the scaled norm. Without it a long Gauss–Newton step from a
+ * poor start can throw a rate constant so far that the exponential saturates and
+ * the fit lands on a plateau where that parameter no longer matters.
  */
 import { choleskyFactor, choleskySolve } from './cholesky';
 
@@ -30,6 +37,10 @@ export interface LmProblem {
 
 export interface LmBuffers {
   r: Float64Array;
+  rTrial: Float64Array;
+  /** Second directional derivative of the model along the step, for the acceleration test. */
+  fvv: Float64Array;
+  acc: Float64Array;
   jac: Float64Array;
   jtj: Float64Array;
   g: Float64Array;
@@ -45,6 +56,9 @@ export interface LmBuffers {
 export function allocateLmBuffers(n: number, m: number, np: number): LmBuffers {
   return {
     r: new Float64Array(n),
+    rTrial: new Float64Array(n),
+    fvv: new Float64Array(n),
+    acc: new Float64Array(m),
     jac: new Float64Array(n * m),
     jtj: new Float64Array(m * m),
     g: new Float64Array(m),
@@ -168,7 +182,7 @@ export interface LmOutcome {
 export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterations: number, tolerance: number): LmOutcome {
   const m = prob.free.length;
   const { free, lower, upper, p } = prob;
-  const { r, jtj, g, a, delta, diagScale, pTrial, active } = buf;
+  const { r, rTrial, jtj, g, a, delta, diagScale, pTrial, active } = buf;
   let chi2 = evaluateResiduals(prob, p, r);
   if (!Number.isFinite(chi2)) return { chiSquare: chi2, iterations: 0, converged: false, problem: 'the model is not finite at the starting values' };
   if (m === 0 || chi2 === 0) return { chiSquare: chi2, iterations: 0, converged: true, problem: null };
@@ -222,7 +236,11 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
         if (v > upper[j]!) v = upper[j]!;
         pTrial[k] = v;
       }
-      trialChi2 = evaluateResiduals(prob, pTrial, r);
+      if (tooCurved(prob, buf, m)) {
+        lambda *= 10;
+        continue;
+      }
+      trialChi2 = evaluateResiduals(prob, pTrial, rTrial);
       if (trialChi2 < chi2) {
         accepted = true;
         break;
@@ -231,7 +249,6 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
     }
     if (!accepted) {
       // No step, however short, lowers χ²: a minimum to working precision.
-      evaluateResiduals(prob, p, r);
       return { chiSquare: chi2, iterations: iter, converged: true, problem: null };
     }
     // Scaled step and parameter norms ‖Dδ‖, ‖Dp‖ for the parameter test.
@@ -247,6 +264,7 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
     }
     const relChi = (chi2 - trialChi2) / Math.max(trialChi2, Number.MIN_VALUE);
     p.set(pTrial);
+    r.set(rTrial);
     chi2 = trialChi2;
     lambda = Math.max(lambda / 10, 1e-12);
     const small = relChi <= tolerance && Math.sqrt(stepNorm) <= xTol * (Math.sqrt(pNorm) + xTol);
@@ -255,4 +273,47 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
     if (!normalEquations(prob, buf)) return { chiSquare: chi2, iterations: iter, converged: false, problem: 'the model derivatives stopped being finite' };
   }
   return { chiSquare: chi2, iterations: maxIterations, converged: false, problem: `did not converge in ${maxIterations} iterations` };
+}
+
+const ACCELERATION_H = 0.1;
+const ACCELERATION_RATIO = 0.75;
+
+/**
+ * The acceleration test for the trial step v = pTrial − p (already clamped, so
+ * p + h v stays in the box). Uses the Cholesky factor left in buf.a.
+ */
+function tooCurved(prob: LmProblem, buf: LmBuffers, m: number): boolean {
+  const { x, y, w, n, model, free, p } = prob;
+  const { r, jac, fvv, acc, pStep, pTrial, diagScale, active } = buf;
+  const h = ACCELERATION_H;
+  pStep.set(p);
+  let vNorm = 0;
+  for (let j = 0; j < m; j++) {
+    const k = free[j]!;
+    const v = pTrial[k]! - p[k]!;
+    pStep[k] = p[k]! + h * v;
+    vNorm += diagScale[j]! * v * v;
+  }
+  if (!(vNorm > 0)) return false;
+  for (let i = 0; i < n; i++) {
+    if (w[i] === 0) {
+      fvv[i] = 0;
+      continue;
+    }
+    let jv = 0;
+    for (let j = 0; j < m; j++) jv += jac[i * m + j]! * (pTrial[free[j]!]! - p[free[j]!]!);
+    const f0 = y[i]! - r[i]!;
+    fvv[i] = (2 / h) * ((model(x[i]!, pStep) - f0) / h - jv);
+  }
+  for (let j = 0; j < m; j++) {
+    let s = 0;
+    if (!active[j]) for (let i = 0; i < n; i++) s += jac[i * m + j]! * w[i]! * fvv[i]!;
+    acc[j] = -s;
+  }
+  choleskySolve(buf.a, m, acc);
+  let aNorm = 0;
+  for (let j = 0; j < m; j++) aNorm += diagScale[j]! * acc[j]! * acc[j]!;
+  const ratio = (2 * Math.sqrt(aNorm)) / Math.sqrt(vNorm);
+  // A non-finite model along the step counts as too curved: shorten it.
+  return !(ratio <= ACCELERATION_RATIO);
 }
