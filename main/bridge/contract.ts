@@ -337,10 +337,16 @@ export interface RatelineBridge {
   onEvent(listener: (event: BridgeEvent) => void): () => void;
 }
 
+const KNOWN_TYPES: ReadonlySet<string> = new Set(RequestSchema.options.map((o) => o.shape.type.value));
+
 /** Parse a request from the screen; an error is one line naming the field at fault. */
 export function parseRequest(input: unknown): { ok: true; request: BridgeRequest } | { ok: false; error: string } {
   const parsed = RequestSchema.safeParse(input);
   if (parsed.success) return { ok: true, request: parsed.data };
+  const type = typeof input === 'object' && input !== null ? (input as { type?: unknown }).type : undefined;
+  if (typeof type === 'string' && !KNOWN_TYPES.has(type)) {
+    return { ok: false, error: `request refused: the request type "${type.slice(0, 40)}" is unknown to this bench service; update the screen and the service together.` };
+  }
   return { ok: false, error: `request refused: ${describeIssue(parsed.error)}` };
 }
 
@@ -348,5 +354,5 @@ export function describeIssue(error: z.ZodError): string {
   const issue = error.issues[0];
   if (!issue) return 'invalid input';
   const where = issue.path.length ? issue.path.map(String).join('.') : 'message';
-  return `${where}: ${issue.message}`;
+  return `${where}: ${issue.message}`.slice(0, 300);
 }

@@ -1,0 +1,8 @@
+/**
+ * A request the service refuses for a reason the user can act on. Its message is the
+ * one line the screen shows (what, where, what to do); anything else thrown is a fault
+ * of ours and is reported as "<request> failed: …".
+ */
+export class Refusal extends Error {
+  override readonly name = 'Refusal';
+}

@@ -1,0 +1,211 @@
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { readRunRecord } from '../acquisition/journalReader';
+import type { ReadingSource, SourceEvent, SourceListener } from '../acquisition/sourceTypes';
+import { DEMO_RUN, simulateRun } from '../kinetics/reactionModel';
+import type { AnalysisResult } from '../kinetics/analysisTypes';
+import { EventSchema, type BridgeEvent } from './bridge/contract';
+import { BenchService } from './benchService';
+import { openJournalSink } from './bench/journalSink';
+import type { AnalyzerOptions, ModelSummary, RunAnalyzerLike } from '../kinetics/analysisTypes';
+
+/** A stand-in analyzer for these wiring tests: counts what it is fed, fits nothing. */
+function testAnalyzer(o: AnalyzerOptions): RunAnalyzerLike {
+  let count = 0;
+  let first = Number.NaN;
+  let last = Number.NaN;
+  const empty: ModelSummary = {
+    k: null, kStdErr: null, kCI95: null, a0: null, a0StdErr: null, aInf: null, aInfStdErr: null, aInfFixed: false,
+    halfLife_s: null, halfLifeStdErr_s: null, aicc: null, rss: null, chiSquare: null, dof: null, runsTestP: null,
+    converged: false, warnings: [],
+  };
+  return {
+    get count() { return count; },
+    add(t) { if (count === 0) first = t; last = t; count++; },
+    result: (): AnalysisResult => ({
+      points: count, duration_s: count ? last - first : 0, pointsInWindow: count, window: { from_s: o.from_s ?? null, to_s: o.to_s ?? null },
+      verdict: { order: 'undecided', weights: { zero: null, first: null, second: null }, reason: 'stand-in' },
+      models: { zero: empty, first: empty, second: empty, nth: { ...empty, order: null, orderStdErr: null } },
+      drivingModel: 'first', halfLivesElapsed: null, fractionConverted: null, targetHalfLives: o.targetHalfLives ?? 3,
+      stop: { state: 'gathering', suggested: false, atTime_s: null, predictedAt_s: null, predictedAtStdErr_s: null, earlyStopPossible: false, kRelCI95Now: null, kRelCI95AtTarget: null, reason: 'stand-in' },
+      outliers: [], units: { time: 's', signal: 'AU', k: { zero: 'AU/s', first: '1/s', second: '1/(AU s)', nth: '' } },
+      warnings: [], uncertaintyNote: 'stand-in',
+    }),
+  };
+}
+
+/** A small source of our own for these tests: plays a simulated run in bursts on timers. */
+function burstSource(points: number, perBurst = 50): ReadingSource & { commands: string[] } {
+  const run = simulateRun({ ...DEMO_RUN, duration_s: points - 1 });
+  const listeners = new Set<SourceListener>();
+  const commands: string[] = [];
+  let timer: ReturnType<typeof setInterval> | null = null;
+  let i = 0;
+  const send = (e: SourceEvent): void => { for (const l of listeners) l(e); };
+  return {
+    kind: 'simulated', commands,
+    on(l) { listeners.add(l); return () => listeners.delete(l); },
+    async open() { send({ type: 'status', status: { kind: 'connected', detail: 'test source' } }); },
+    async command(cmd) {
+      commands.push(cmd.type);
+      if (cmd.type === 'start') {
+        timer = setInterval(() => {
+          for (let b = 0; b < perBurst && i < run.time_s.length; b++, i++) {
+            send({ type: 'reading', reading: { deviceTime_s: 100 + run.time_s[i]!, hostTime_ms: performance.now(), absorbance: run.absorbance[i]!, wavelength_nm: 630, cellTemperature_C: null, flags: 0 } });
+          }
+          if (i >= run.time_s.length && timer) {
+            clearInterval(timer);
+            timer = null;
+            send({ type: 'status', status: { kind: 'ended', detail: 'all points played' } });
+          }
+        }, 5);
+      }
+      if (cmd.type === 'stop' && timer) { clearInterval(timer); timer = null; }
+      return { ok: true };
+    },
+    async close() { if (timer) clearInterval(timer); },
+    rejectedCounts: () => ({ checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 }),
+  };
+}
+
+let dir: string;
+beforeEach(() => { dir = mkdtempSync(join(tmpdir(), 'rateline-bench-')); });
+afterEach(() => rmSync(dir, { recursive: true, force: true }));
+
+function service(source: ReadingSource): BenchService {
+  return new BenchService({
+    host: 'web', dataDir: dir, defaultSpeed: 100,
+    createSource: () => source,
+    createAnalyzer: (o) => testAnalyzer(o),
+    openRecord: (o) => openJournalSink(o),
+    listPorts: async () => [],
+  });
+}
+
+function until(events: BridgeEvent[], pred: (e: BridgeEvent) => boolean, ms = 10_000): Promise<void> {
+  const t0 = Date.now();
+  return new Promise((resolve, reject) => {
+    const tick = (): void => {
+      if (events.some(pred)) resolve();
+      else if (Date.now() - t0 > ms) reject(new Error('timed out waiting for an event'));
+      else setTimeout(tick, 10);
+    };
+    tick();
+  });
+}
+
+describe('bench service', () => {
+  it('runs a source to its end: readings in batches, throttled results, a record with every point', async () => {
+    const n = 1500;
+    const src = burstSource(n);
+    const svc = service(src);
+    const events: { at: number; e: BridgeEvent }[] = [];
+    const plain: BridgeEvent[] = [];
+    svc.subscribe((e) => { events.push({ at: performance.now(), e }); plain.push(e); });
+    const start = await svc.handle({ type: 'start' });
+    expect(start.ok).toBe(true);
+    await until(plain, (e) => e.type === 'record' && e.status === 'closed');
+    await until(plain, (e) => e.type === 'analysis' && e.atCount === n);
+
+    // every pushed event satisfies the contract the screen reads
+    for (const { e } of events) expect(EventSchema.safeParse(e).success, e.type).toBe(true);
+
+    // readings arrive in order, each exactly once, on the run clock (first reading at 0 s)
+    const batches = events.map((x) => x.e).filter((e): e is Extract<BridgeEvent, { type: 'readings' }> => e.type === 'readings');
+    let next = 0;
+    const times: number[] = [];
+    for (const b of batches) {
+      expect(b.fromIndex).toBe(next);
+      next += b.time_s.length;
+      times.push(...b.time_s);
+    }
+    expect(next).toBe(n);
+    expect(times[0]).toBe(0);
+    expect(times[n - 1]).toBe(n - 1);
+    expect(batches.length).toBeLessThan(n / 10); // batched, not one message per reading
+
+    // results throttled to at most 20 per second
+    const analyses = events.filter((x) => x.e.type === 'analysis');
+    expect(analyses.length).toBeGreaterThan(0);
+    for (let i = 1; i < analyses.length; i++) expect(analyses[i]!.at - analyses[i - 1]!.at).toBeGreaterThanOrEqual(40);
+    const last = analyses[analyses.length - 1]!.e as Extract<BridgeEvent, { type: 'analysis' }>;
+    expect(last.atCount).toBe(n);
+    expect(last.result.points).toBe(n);
+
+    // the record on disk holds every point, read back by the acquisition reader
+    const state = svc.snapshot();
+    expect(state.phase).toBe('stopped');
+    const rec = readRunRecord(state.recordPath!);
+    expect(rec.readings.count).toBe(n);
+    expect(rec.recovery.clean).toBe(true);
+    expect(rec.header.demo).toBe(true);
+    const sim = simulateRun({ ...DEMO_RUN, duration_s: n - 1 });
+    for (let i = 0; i < n; i += 97) expect(rec.readings.absorbance[i]).toBe(sim.absorbance[i]);
+    expect(rec.events.some((p) => p.event.ev === 'stop' && p.event.reason === 'sourceEnded')).toBe(true);
+    await svc.dispose();
+  });
+
+  it('stops on request, keeps mixing time, marks and sample details in the record', async () => {
+    const src = burstSource(100_000, 20);
+    const svc = service(src);
+    const events: BridgeEvent[] = [];
+    svc.subscribe((e) => events.push(e));
+    expect((await svc.handle({ type: 'setSampleDetails', details: { sample: 'dye 5.0 µM (demo)', operator: 'A. N.', temperature_C: 25 } })).ok).toBe(true);
+    expect((await svc.handle({ type: 'start' })).ok).toBe(true);
+    await until(events, (e) => e.type === 'readings');
+    expect((await svc.handle({ type: 'mixed' })).ok).toBe(true);
+    const mark = await svc.handle({ type: 'markEvent', note: 'bubble seen' });
+    expect(mark.ok).toBe(true);
+    await until(events, (e) => e.type === 'analysis' && e.atCount > 200);
+    const stop = await svc.handle({ type: 'stop' });
+    expect(stop.ok).toBe(true);
+    expect(src.commands).toEqual(['start', 'stop']);
+    const state = svc.snapshot();
+    expect(state.timeZero_s).not.toBeNull();
+    const rec = readRunRecord(state.recordPath!);
+    expect(rec.readings.count).toBe(state.pointCount);
+    expect(rec.header.run.sample).toBe('dye 5.0 µM (demo)');
+    expect(rec.header.run.temperature_C).toBe(25);
+    expect(rec.events.map((p) => p.event.ev)).toEqual(expect.arrayContaining(['mixed', 'mark', 'stop']));
+    // the analysis counts only points after mixing; the run keeps them all
+    const last = [...events].reverse().find((e) => e.type === 'analysis') as { result: AnalysisResult; atCount: number };
+    expect(last.result.points).toBeLessThan(last.atCount);
+
+    // an export of the run: one row per reading after the header and comments
+    const exp = await svc.handle({ type: 'saveExport', format: 'csv' });
+    expect(exp.ok).toBe(true);
+    const csv = readFileSync((exp as { value: { path: string } }).value.path, 'utf8').trim().split('\r\n');
+    expect(csv.filter((l) => !l.startsWith('#')).length).toBe(state.pointCount + 1);
+    expect(csv[0]).toContain('demo data');
+    await svc.dispose();
+  });
+
+  it('answers bad requests with one-line errors and keeps the run going', async () => {
+    const svc = service(burstSource(10));
+    const cases: unknown[] = [
+      { type: 'nope' }, null, { type: 'setWavelength', wavelength_nm: 'blue' },
+      { type: 'stop' }, { type: 'mixed' }, { type: 'openRecord' },
+      { type: 'chooseSource', source: { kind: 'replay', file: 'missing.jsonl' } },
+    ];
+    for (const c of cases) {
+      const r = await svc.handle(c);
+      expect(r.ok, JSON.stringify(c)).toBe(false);
+      if (!r.ok) expect(r.error).toMatch(/^[^\n]{10,300}$/);
+    }
+    expect((await svc.handle({ type: 'getState' })).ok).toBe(true); // negative control
+    await svc.dispose();
+  });
+
+  it('replays a record from the runs folder by name, and lists it', async () => {
+    writeFileSync(join(dir, 'old.jsonl'), '{}\n');
+    const svc = service(burstSource(10));
+    const list = await svc.handle({ type: 'listRecords' });
+    expect(list.ok && (list.value as { records: { name: string }[] }).records.map((r) => r.name)).toEqual(['old.jsonl']);
+    const chosen = await svc.handle({ type: 'chooseSource', source: { kind: 'replay', file: 'old.jsonl', speed: 'max' } });
+    expect(chosen.ok).toBe(true);
+    expect(svc.snapshot().demo).toBe(false);
+    await svc.dispose();
+  });
+});
