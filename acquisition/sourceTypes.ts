@@ -79,7 +79,24 @@ export type SourceEvent =
   | { type: 'rejected'; reason: RejectReason; line: string; counts: Record<RejectReason, number> }
   /** The feed stopped and resumed (cable pulled, port reopened): no readings between. */
   | { type: 'gap'; from_ms: number; to_ms: number; reason: string }
-  | { type: 'warning'; message: string };
+  | { type: 'warning'; message: string }
+  /** A blank was taken (devices that send counts): the reference now in use and the baseline check. */
+  | { type: 'blank'; blank: BlankTaken };
+
+/** The blank reference and its baseline check, as the source took it (see acquisition/absorbance.ts). */
+export interface BlankTaken {
+  netBlank_counts: number;
+  dark_counts: number;
+  points: number;
+  wavelength_nm: number;
+  /** Device time of the blank's last line. */
+  deviceTime_s: number;
+  /** SD of the blank as absorbance, and its drift in AU per minute (null when the blank was too short to check). */
+  noise_AU: number | null;
+  drift_AUperMin: number | null;
+  warmedUp: boolean | null;
+  warnings: string[];
+}
 
 export type SourceListener = (event: SourceEvent) => void;
 
