@@ -11,7 +11,7 @@ import { join } from 'node:path';
 import type { Reading, ReadingSource, SourceEvent } from '../acquisition/sourceTypes';
 import type { AnalyzerOptions, RunAnalyzerLike } from '../kinetics/analysisTypes';
 import {
-  CONTRACT_VERSION, parseRequest,
+  CONTRACT_VERSION, LIMITS, parseRequest,
   type AnyReply, type BenchState, type BridgeEvent, type BridgeRequest, type RejectCounts, type SampleDetails, type SourceChoice,
 } from './bridge/contract';
 import type { BenchDeps, RecordSink } from './bench/benchPorts';
@@ -46,12 +46,7 @@ export class BenchService {
   constructor(private readonly deps: BenchDeps) {
     this.now_ms = deps.now_ms ?? (() => performance.now());
     this.outbox = new Outbox({
-      flushReadings: (from, to) => this.emit({
-        type: 'readings', runId: this.state.runId ?? '', fromIndex: from,
-        time_s: Array.from(this.series.time_s.subarray(from, to)),
-        absorbance: Array.from(this.series.absorbance.subarray(from, to)),
-        flags: Array.from(this.series.flags.subarray(from, to)),
-      }),
+      flushReadings: (from, to) => this.emit(this.readingsEvent(from, to)),
       analyse: () => this.analyse(),
       flushOther: () => {
         if (this.lastRejected) this.emit({ type: 'rejected', counts: { ...this.state.rejected }, ...this.lastRejected });
@@ -71,6 +66,27 @@ export class BenchService {
   subscribe(listener: Listener): () => void {
     this.listeners.add(listener);
     return () => this.listeners.delete(listener);
+  }
+
+  /**
+   * Bring a newly attached screen up to date (a page loaded or reloaded mid-run): the
+   * state, every reading of the current run in batches, and the latest result.
+   */
+  catchUp(listener: Listener): void {
+    listener({ type: 'state', state: this.snapshot() });
+    const runId = this.state.runId;
+    if (!runId) return;
+    for (let from = 0; from < this.series.length; from += LIMITS.maxBatchPoints) {
+      const to = Math.min(this.series.length, from + LIMITS.maxBatchPoints);
+      listener(this.readingsEvent(from, to));
+    }
+    if (this.analyzer) {
+      try {
+        listener({ type: 'analysis', runId, atCount: this.series.length, result: this.analyzer.result() });
+      } catch {
+        // the next throttled result will carry it
+      }
+    }
   }
 
   snapshot(): BenchState {
@@ -364,6 +380,15 @@ export class BenchService {
       runId: this.state.runId ?? 'run', demo: this.state.demo, sourceLabel: this.state.sourceLabel,
       details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm, timeZero_s: this.state.timeZero_s ?? 0,
       series: this.series, result,
+    };
+  }
+
+  private readingsEvent(from: number, to: number): BridgeEvent {
+    return {
+      type: 'readings', runId: this.state.runId ?? '', fromIndex: from,
+      time_s: Array.from(this.series.time_s.subarray(from, to)),
+      absorbance: Array.from(this.series.absorbance.subarray(from, to)),
+      flags: Array.from(this.series.flags.subarray(from, to)),
     };
   }
 
