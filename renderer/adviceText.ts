@@ -1,0 +1,69 @@
+/**
+ * The stop advice in words. The screen never says "stop" by colour alone: each state
+ * has a headline a person can read across the room and a sentence that says why,
+ * and what an early stop would cost in the precision of k. Pure: no DOM.
+ */
+import type { AnalysisResultView } from '../main/bridge/contract';
+import { formatDuration, formatPercent } from './numberFormat';
+
+export type AdviceTone = 'wait' | 'progress' | 'ready';
+
+export interface AdviceWords {
+  headline: string;
+  detail: string;
+  /** What stopping now would cost, when an early stop is the user's choice; else null. */
+  earlyStop: string | null;
+  tone: AdviceTone;
+}
+
+export function adviceWords(result: AnalysisResultView | null, running: boolean): AdviceWords {
+  if (!result) {
+    return {
+      headline: running ? 'Waiting for readings' : 'Not running',
+      detail: running ? 'The first readings start the fit.' : 'Choose a source, connect, then start the run.',
+      earlyStop: null,
+      tone: 'wait',
+    };
+  }
+  const s = result.stop;
+  let earlyStop: string | null = null;
+  if (s.earlyStopPossible && !s.suggested && s.kRelCI95Now !== null) {
+    const then = s.kRelCI95AtTarget !== null ? `, against ±${formatPercent(s.kRelCI95AtTarget, 1).replace(' ', '')} at the target` : '';
+    earlyStop = `Stopping early is possible: k is known to ±${formatPercent(s.kRelCI95Now, 1).replace(' ', '')} now${then}.`;
+  }
+  switch (s.state) {
+    case 'gathering':
+      return { headline: 'Gathering points', detail: s.reason || 'Too few readings for a fit yet.', earlyStop, tone: 'wait' };
+    case 'estimating':
+      return { headline: 'Estimating: keep going', detail: s.reason || 'The rate constant is still moving.', earlyStop, tone: 'progress' };
+    case 'settled':
+      return {
+        headline: s.suggested ? 'Far enough: stop now' : 'Settled: not yet at the target',
+        detail: s.reason || 'The rate constant has settled; the run has not reached its target yet.',
+        earlyStop,
+        tone: s.suggested ? 'ready' : 'progress',
+      };
+    case 'farEnough':
+      return {
+        headline: s.suggested ? 'Far enough: stop now' : 'Far enough, but not settled',
+        detail: s.reason || 'The target is reached.',
+        earlyStop,
+        tone: s.suggested ? 'ready' : 'progress',
+      };
+  }
+}
+
+/** "Target reached at t ≈ 612 ± 35 s (95 %), about 4 min 10 s from now.", or why it cannot be said yet. */
+export function finishWords(result: AnalysisResultView | null, now_s: number | null, runPerWall: number | null): string {
+  const s = result?.stop;
+  if (!s || s.predictedAt_s === null) return 'Finishing time: not predictable yet.';
+  // ±1.96 standard errors: a 95 % interval under the usual normal approximation.
+  const err = s.predictedAtStdErr_s !== null ? ` ± ${Math.round(1.96 * s.predictedAtStdErr_s)} s (95 %)` : ' s';
+  const at = `Target reached at t ≈ ${Math.round(s.predictedAt_s)}${err}`;
+  if (now_s === null) return `${at}.`;
+  const left_s = s.predictedAt_s - now_s;
+  if (left_s <= 0) return `${at} (passed).`;
+  // The run clock can run faster than the wall clock (a fast simulation, a replay).
+  const wall = runPerWall && runPerWall > 0 ? left_s / runPerWall : left_s;
+  return `${at}, about ${formatDuration(wall)} from now.`;
+}

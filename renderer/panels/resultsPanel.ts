@@ -1,0 +1,94 @@
+/**
+ * The fitted results: k and the half-life with their 95 % confidence intervals and
+ * units, the order verdict with its evidence (the Akaike weights of the three
+ * integer orders, as numbers and bars), the fitted order n, the outliers, warnings,
+ * and the reminder that the interval covers measurement noise only.
+ */
+import type { AnalysisResultView } from '../../main/bridge/contract';
+import { h, setHidden, setText } from '../elements';
+import { ciHalfWidth, formatInterval, formatPlusMinus, prettyUnit } from '../numberFormat';
+import type { ScreenState } from '../store';
+import { CURVE_STYLE } from './runChart';
+
+const ORDER_WORDS = { zero: 'zero order', first: 'first order', second: 'second order', undecided: 'undecided' } as const;
+
+export interface ResultsPanel {
+  element: HTMLElement;
+  render(state: ScreenState): void;
+}
+
+function weightRow(name: 'zero' | 'first' | 'second') {
+  const value = h('span', { class: 'weight-value' }, '—');
+  const fill = h('span', { class: 'weight-fill' });
+  fill.style.background = CURVE_STYLE[name].color;
+  const row = h('div', { class: 'weight-row' }, h('span', { class: 'weight-name' }, ORDER_WORDS[name]), h('span', { class: 'weight-bar' }, fill), value);
+  return { row, value, fill };
+}
+
+export function createResultsPanel(): ResultsPanel {
+  const kValue = h('span', { class: 'big-number', 'data-testid': 'k' }, '—');
+  const kUnit = h('span', { class: 'big-unit' });
+  const kModel = h('p', { class: 'small' });
+  const kCI = h('p', { class: 'small' });
+  const halfLife = h('p', { class: 'result-line', 'data-testid': 'half-life' });
+  const verdict = h('p', { class: 'verdict', 'data-testid': 'verdict' });
+  const reason = h('p', { class: 'small' });
+  const rows = { zero: weightRow('zero'), first: weightRow('first'), second: weightRow('second') };
+  const nth = h('p', { class: 'result-line' });
+  const outliers = h('p', { class: 'result-line' });
+  const warnings = h('ul', { class: 'warnings' });
+  const note = h('p', { class: 'note' });
+
+  const element = h('section', { class: 'panel results', 'aria-label': 'Results' },
+    h('h2', {}, 'Rate constant'),
+    h('p', { class: 'big' }, kValue, ' ', kUnit), kModel, kCI, halfLife,
+    h('h3', {}, 'Order'), verdict,
+    h('div', { class: 'weights', 'aria-label': 'Akaike weights' }, h('p', { class: 'small' }, 'Evidence (Akaike weights, sum 1):'), rows.zero.row, rows.first.row, rows.second.row),
+    reason, nth, outliers, warnings, note);
+
+  let shown: AnalysisResultView | null | undefined;
+  return {
+    element,
+    render(state) {
+      const a = state.analysis;
+      if (a === shown) return;
+      shown = a;
+      if (!a) {
+        setText(kValue, '—'); setText(kUnit, ''); setText(kModel, 'No fit yet.'); setText(kCI, ''); setText(halfLife, '');
+        setText(verdict, 'Order: not known yet'); setText(reason, ''); setText(nth, ''); setText(outliers, '');
+        warnings.replaceChildren(); setText(note, '');
+        for (const r of Object.values(rows)) { setText(r.value, '—'); r.fill.style.width = '0%'; }
+        return;
+      }
+      const model = a.verdict.order === 'undecided' ? a.drivingModel : a.verdict.order;
+      const m = a.models[model];
+      setText(kValue, formatPlusMinus(m.k, ciHalfWidth(m.kCI95) ?? m.kStdErr));
+      setText(kUnit, prettyUnit(a.units.k[model]));
+      setText(kModel, a.verdict.order === 'undecided'
+        ? `${ORDER_WORDS[model]}, assumed while the order is undecided; ± is the 95 % CI half-width`
+        : `${ORDER_WORDS[model]} fit; ± is the 95 % CI half-width`);
+      setText(kCI, `95 % CI: ${formatInterval(m.kCI95)} ${prettyUnit(a.units.k[model])}`);
+      setText(halfLife, m.halfLife_s !== null
+        ? `Half-life: ${formatPlusMinus(m.halfLife_s, m.halfLifeStdErr_s !== null ? 1.96 * m.halfLifeStdErr_s : null)} s (95 %)${model === 'first' ? '' : ', at the starting signal'}`
+        : 'Half-life: not available yet');
+      setText(verdict, a.verdict.order === 'undecided' ? 'Order: undecided so far' : `Order: ${ORDER_WORDS[a.verdict.order]}`);
+      setText(reason, a.verdict.reason);
+      for (const name of ['zero', 'first', 'second'] as const) {
+        const w = a.verdict.weights[name];
+        setText(rows[name].value, w === null ? '—' : w.toFixed(2));
+        rows[name].fill.style.width = `${((w ?? 0) * 100).toFixed(1)}%`;
+      }
+      const n = a.models.nth;
+      setText(nth, n.order !== null
+        ? `Fitted order n = ${formatPlusMinus(n.order, n.orderStdErr !== null ? 1.96 * n.orderStdErr : null)} (95 %)`
+        : 'Fitted order n: not available yet');
+      setText(outliers, a.outliers.length
+        ? `${a.outliers.length} reading${a.outliers.length > 1 ? 's' : ''} down-weighted as outlier${a.outliers.length > 1 ? 's' : ''} (ringed in red on the chart); none deleted.`
+        : 'No outliers down-weighted.');
+      const all = [...a.warnings, ...m.warnings];
+      warnings.replaceChildren(...all.map((w) => h('li', {}, w)));
+      setHidden(warnings, all.length === 0);
+      setText(note, a.uncertaintyNote);
+    },
+  };
+}

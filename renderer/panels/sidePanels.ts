@@ -1,0 +1,69 @@
+/**
+ * The small panels: the demo label and the safety note for the demo chemistry,
+ * the list of marks, and the messages line where refused requests and warnings
+ * are said in one sentence each.
+ */
+import { h, setHidden, setText } from '../elements';
+import type { ScreenState } from '../store';
+
+export function createSafetyNote(): HTMLElement {
+  return h('section', { class: 'panel safety', 'aria-label': 'Safety' },
+    h('h2', {}, 'Safety: the demo chemistry'),
+    h('p', {}, 'Sodium hypochlorite (bleach) irritates or burns skin and eyes: wear eye protection and gloves.'),
+    h('p', {}, 'Never mix bleach with acids (chlorine gas) or with ammonia (chloramines). Food dyes stain.'),
+    h('p', { class: 'small' }, 'The safety data sheets and your lab’s own rules come first.'));
+}
+
+export interface Renderable {
+  element: HTMLElement;
+  render(state: ScreenState): void;
+}
+
+export function createDemoBanner(): Renderable {
+  const element = h('div', { class: 'demo-banner', role: 'note', 'data-testid': 'demo-banner' },
+    'DEMO DATA: the simulated instrument plays an invented run (brilliant blue FCF bleached by hypochlorite); no numbers here were measured.');
+  return {
+    element,
+    render(state) { setHidden(element, !state.bench?.demo); },
+  };
+}
+
+export function createMarksPanel(): Renderable {
+  const list = h('ol', { class: 'marks' });
+  const record = h('p', { class: 'small mono', 'data-testid': 'record-path' });
+  const element = h('section', { class: 'panel marks-panel', 'aria-label': 'Marks and record' },
+    h('h2', {}, 'Marks and record'), list, record);
+  let shown: ScreenState['marks'] | null = null;
+  return {
+    element,
+    render(state) {
+      if (state.marks !== shown) {
+        shown = state.marks;
+        const zero = state.bench?.timeZero_s ?? 0;
+        list.replaceChildren(...(state.marks.length
+          ? state.marks.map((m) => h('li', {}, `${m.at_s === null ? 'time not known' : `t = ${(m.at_s - zero).toFixed(1)} s`}${m.note ? `: ${m.note}` : ''}`))
+          : [h('li', { class: 'small' }, 'No marks yet (M marks the moment, with the note typed beside the button).')]));
+      }
+      const path = state.recordPath ?? state.bench?.recordPath ?? null;
+      setText(record, path ? `Record${state.recordOpen ? ' (being written)' : ''}: ${path}` : 'No run record yet.');
+    },
+  };
+}
+
+export function createMessages(dismiss: (id: number) => void): Renderable {
+  const element = h('div', { class: 'messages', role: 'alert', 'aria-live': 'assertive' });
+  let shown: ScreenState['messages'] | null = null;
+  return {
+    element,
+    render(state) {
+      if (state.messages === shown) return;
+      shown = state.messages;
+      element.replaceChildren(...state.messages.map((m) => {
+        const close = h('button', { type: 'button', class: 'dismiss', 'aria-label': 'Dismiss' }, '×');
+        close.addEventListener('click', () => dismiss(m.id));
+        return h('p', { class: `message ${m.level}` }, h('strong', {}, m.level === 'error' ? 'Not done: ' : m.level === 'warning' ? 'Warning: ' : ''), m.text, ' ', close);
+      }));
+      setHidden(element, state.messages.length === 0);
+    },
+  };
+}
