@@ -1,0 +1,78 @@
+/**
+ * Hands a rate law to the general fitting core (kinetics/fit). The core sees
+ * x = the index of a pseudo-point, so the model can predict the bin mean (with its
+ * curvature correction) rather than the value at the bin's mean time. The core is
+ * given C = A0 − A∞ instead of A0, so that "A∞ not above A0" is the box bound C ≥ 0.
+ * The reported statistics are then computed by finishFit like every other model's.
+ */
+import { fitLeastSquares } from '../fit/leastSquares';
+import type { ParameterSpec } from '../fit/fitTypes';
+import type { ModelName } from '../analysisTypes';
+import { AINF, A0, K, ORDER, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
+import { binMean, finishFit } from './fitStatistics';
+
+export interface CoreBounds {
+  /** Extra parameter bounds beyond k ≥ 0, C ≥ 0, A∞ ≥ aInfMin (for the order n). */
+  orderMin?: number;
+  orderMax?: number;
+}
+
+const indexCache: { x: Float64Array } = { x: new Float64Array(0) };
+
+function indices(count: number): Float64Array {
+  if (indexCache.x.length < count) {
+    const x = new Float64Array(Math.max(count, indexCache.x.length * 2));
+    for (let i = 0; i < x.length; i++) x[i] = i;
+    indexCache.x = x;
+  }
+  return indexCache.x;
+}
+
+export function fitWithCore(
+  model: ModelName, law: RateLaw, s: FitSeries, start: Float64Array, opts: ModelOptions, bounds: CoreBounds = {},
+): ModelFit {
+  const np = start.length;
+  const aInfFixed = opts.fixedAInf !== undefined;
+  const aInf0 = aInfFixed ? (opts.fixedAInf as number) : Math.max(opts.aInfMin, start[AINF]);
+  const c0 = Math.max(start[A0] - aInf0, 1e-12);
+  const specs: ParameterSpec[] = [
+    { name: 'k', value: Math.max(start[K], 1e-30), min: 0 },
+    { name: 'c', value: c0, min: 0 },
+    { name: 'aInf', value: aInf0, fixed: aInfFixed, min: opts.aInfMin },
+  ];
+  if (np > ORDER) specs.push({ name: 'n', value: start[ORDER], min: bounds.orderMin, max: bounds.orderMax });
+  // Core parameters q = (k, C, A∞[, n]) → rate-law parameters p = (k, A0 = A∞ + C, A∞[, n]).
+  const p = new Float64Array(np);
+  const g = new Float64Array(np);
+  const toP = (q: Float64Array): Float64Array => {
+    p[K] = q[0]; p[A0] = q[2] + q[1]; p[AINF] = q[2];
+    if (np > ORDER) p[ORDER] = q[3];
+    return p;
+  };
+  const result = fitLeastSquares({
+    parameters: specs,
+    x: indices(s.count),
+    y: s.y,
+    weights: s.w,
+    count: s.count,
+    model: (x, q) => { const i = x | 0; return binMean(law, s.tau_s[i], s.v[i], toP(q)); },
+    jacobian: (x, q, out) => {
+      law.gradient(s.tau_s[x | 0], toP(q), g);
+      out[0] = g[K];
+      out[1] = g[A0];
+      out[2] = g[A0] + g[AINF];
+      if (np > ORDER) out[3] = g[ORDER];
+    },
+    options: { maxIterations: 100, tolerance: 1e-10 },
+  });
+  const q = Float64Array.from(result.parameters.map((fp) => fp.value));
+  const final = Float64Array.from(toP(q));
+  const byName = result.byName;
+  const held = (name: string): boolean => !byName[name] || byName[name].fixed || byName[name].atBound;
+  // A parameter left on a bound is reported as held: its SE would not mean anything.
+  const free = [!held('k'), !held('c'), !aInfFixed && !held('aInf')];
+  if (np > ORDER) free.push(!held('n'));
+  const warnings = result.warnings.map((w) => `${model} order: ${w}`);
+  if (held('c')) warnings.push(`${model} order: no decay found (A0 − A∞ fitted as zero)`);
+  return finishFit(model, law, s, final, free, result.ok && result.converged, warnings);
+}

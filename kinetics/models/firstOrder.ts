@@ -1,0 +1,155 @@
+/**
+ * First order: rate = k[A], so A = A∞ + (A0 − A∞) e^(−kt).
+ * Solved by variable projection: for a given k the model is linear in A∞ and
+ * C = A0 − A∞, so those come from a 2×2 weighted least-squares solve and only k is
+ * searched (on ln k, where the profile χ² is well shaped). This cannot wander off in
+ * the way a joint 3-parameter search can when A∞ and k trade against each other.
+ */
+import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
+import { finishFit } from './fitStatistics';
+
+export const firstOrderLaw: RateLaw = {
+  name: 'first',
+  parameterNames: ['k', 'a0', 'aInf'],
+  value: (tau, p) => p[AINF] + (p[A0] - p[AINF]) * Math.exp(-p[K] * tau),
+  gradient: (tau, p, out) => {
+    const e = Math.exp(-p[K] * tau);
+    out[K] = -tau * (p[A0] - p[AINF]) * e;
+    out[A0] = e;
+    out[AINF] = 1 - e;
+  },
+  curvature: (tau, p) => p[K] * p[K] * (p[A0] - p[AINF]) * Math.exp(-p[K] * tau),
+};
+
+interface Linear { chi: number; aInf: number; c: number; aInfHeld: boolean }
+
+/** Best A∞ and C for a given k, within the bounds: A∞ ≥ aInfMin, C ≥ 0 (A∞ not above A0). */
+function solveLinear(s: FitSeries, k: number, opts: ModelOptions, yMean: number): Linear {
+  // Basis g = bin mean of e^(−kτ) ≈ e^(−kτ̄)(1 + ½k²v). Signals are taken about their
+  // weighted mean so that χ² is not the small difference of large sums.
+  let sw = 0, sg = 0, sgg = 0, sy = 0, sgy = 0, syy = 0;
+  for (let i = 0; i < s.count; i++) {
+    const w = s.w[i], y = s.y[i] - yMean;
+    const g = Math.exp(-k * s.tau_s[i]) * (1 + 0.5 * k * k * s.v[i]);
+    sw += w; sg += w * g; sgg += w * g * g; sy += w * y; sgy += w * g * y; syy += w * y * y;
+  }
+  const withA = (aAbs: number): Linear => {
+    const a = aAbs - yMean;
+    // C given A∞ = a: minimise Σw(y − a − C g)².
+    const c = Math.max(0, sgg > 0 ? (sgy - a * sg) / sgg : 0);
+    const chi = syy + a * a * sw + c * c * sgg - 2 * a * sy - 2 * c * sgy + 2 * a * c * sg;
+    return { chi, aInf: aAbs, c, aInfHeld: true };
+  };
+  if (opts.fixedAInf !== undefined) return withA(opts.fixedAInf);
+  const det = sw * sgg - sg * sg;
+  if (det > 1e-14 * sw * sgg) {
+    const a = (sy * sgg - sg * sgy) / det;
+    const c = (sw * sgy - sg * sy) / det;
+    if (a + yMean >= opts.aInfMin && c >= 0) {
+      const chi = syy + a * a * sw + c * c * sgg - 2 * a * sy - 2 * c * sgy + 2 * a * c * sg;
+      return { chi, aInf: a + yMean, c, aInfHeld: false };
+    }
+  }
+  // On a bound: either A∞ at its floor, or C = 0 (A∞ = the weighted mean).
+  const floor = withA(opts.aInfMin);
+  const flat = { chi: syy - (sy * sy) / sw, aInf: yMean + sy / sw, c: 0, aInfHeld: true };
+  return floor.chi <= flat.chi ? floor : flat;
+}
+
+/** Profile χ² over ln k: coarse scan (cold) or local bracket (warm), then golden section. */
+export function fitFirstOrder(s: FitSeries, opts: ModelOptions): ModelFit {
+  const p = new Float64Array(3);
+  if (s.count < 4) {
+    return finishFit('first', firstOrderLaw, s, p, [true, true, opts.fixedAInf === undefined], false, ['too few points for a first-order fit']);
+  }
+  let span = 0;
+  for (let i = 0; i < s.count; i++) span = Math.max(span, s.tau_s[i]);
+  span = Math.max(span, 1e-9);
+  let sw = 0, swy = 0;
+  for (let i = 0; i < s.count; i++) { sw += s.w[i]; swy += s.w[i] * s.y[i]; }
+  const yMean = sw > 0 ? swy / sw : 0;
+  const prof = (lnk: number): number => solveLinear(s, Math.exp(lnk), opts, yMean).chi;
+  let lo: number, hi: number;
+  const prev = opts.previous;
+  if (prev && prev[K] > 0 && Number.isFinite(prev[K])) {
+    // Warm start: a bracket of ±5% around the last k, widened while the minimum sits on an edge.
+    let c = Math.log(prev[K]);
+    let h = 0.05;
+    for (let tries = 0; tries < 12; tries++) {
+      const fc = prof(c), fl = prof(c - h), fh = prof(c + h);
+      if (fc <= fl && fc <= fh) break;
+      c = fl < fh ? c - h : c + h;
+      h *= 2;
+    }
+    lo = c - h; hi = c + h;
+  } else {
+    // Cold start: rate constants from 1/1000 to 1000 reactions per observed span.
+    const a = Math.log(1e-3 / span), b = Math.log(1e3 / span);
+    const steps = 36;
+    let best = 0, bestChi = Number.POSITIVE_INFINITY;
+    for (let j = 0; j <= steps; j++) {
+      const chi = prof(a + ((b - a) * j) / steps);
+      if (chi < bestChi) { bestChi = chi; best = j; }
+    }
+    lo = a + ((b - a) * Math.max(0, best - 1)) / steps;
+    hi = a + ((b - a) * Math.min(steps, best + 1)) / steps;
+  }
+  // Brent's minimiser on ln k (parabolic steps, golden-section fallback) to 1e-9:
+  // the relative precision of k is then far below its standard error.
+  const m = brentMinimum(prof, lo, hi, 1e-9);
+  const iter = m.iterations;
+  const k = Math.exp(m.x);
+  const lin = solveLinear(s, k, opts, yMean);
+  p[K] = k; p[A0] = lin.aInf + lin.c; p[AINF] = lin.aInf;
+  const warnings: string[] = [];
+  if (lin.c === 0) warnings.push('first order: no decay found (A0 − A∞ fitted as zero)');
+  const edge = Math.log(1e-3 / span) + 1e-6;
+  if (m.x <= edge) warnings.push('first order: the rate is too slow to measure over this span');
+  return finishFit('first', firstOrderLaw, s, p, [true, true, !lin.aInfHeld], iter < 200 && lin.c > 0, warnings);
+}
+
+/**
+ * Brent's method for a minimum of f on [a, b] (Brent, Algorithms for Minimization
+ * without Derivatives, 1973): parabolic interpolation where it behaves, golden
+ * section where it does not.
+ */
+export function brentMinimum(f: (x: number) => number, a: number, b: number, tol: number): { x: number; fx: number; iterations: number } {
+  const cgold = 0.3819660112501051;
+  let x = a + cgold * (b - a), w = x, v = x;
+  let fx = f(x), fw = fx, fv = fx;
+  let d = 0, e = 0;
+  let it = 0;
+  for (; it < 200; it++) {
+    const xm = 0.5 * (a + b);
+    const tol1 = tol * Math.abs(x) + 1e-12, tol2 = 2 * tol1;
+    if (Math.abs(x - xm) <= tol2 - 0.5 * (b - a)) break;
+    let golden = true;
+    if (Math.abs(e) > tol1) {
+      let r = (x - w) * (fx - fv);
+      let q = (x - v) * (fx - fw);
+      let p = (x - v) * q - (x - w) * r;
+      q = 2 * (q - r);
+      if (q > 0) p = -p; else q = -q;
+      const eTemp = e;
+      e = d;
+      if (Math.abs(p) < Math.abs(0.5 * q * eTemp) && p > q * (a - x) && p < q * (b - x)) {
+        d = p / q;
+        const u = x + d;
+        if (u - a < tol2 || b - u < tol2) d = xm - x >= 0 ? tol1 : -tol1;
+        golden = false;
+      }
+    }
+    if (golden) { e = (x >= xm ? a : b) - x; d = cgold * e; }
+    const u = Math.abs(d) >= tol1 ? x + d : x + (d >= 0 ? tol1 : -tol1);
+    const fu = f(u);
+    if (fu <= fx) {
+      if (u >= x) a = x; else b = x;
+      v = w; fv = fw; w = x; fw = fx; x = u; fx = fu;
+    } else {
+      if (u < x) a = u; else b = u;
+      if (fu <= fw || w === x) { v = w; fv = fw; w = u; fw = fu; }
+      else if (fu <= fv || v === x || v === w) { v = u; fv = fu; }
+    }
+  }
+  return { x, fx, iterations: it };
+}
