@@ -36,9 +36,15 @@ export function assembleFitResult(parts: FitOutcomeParts): FitResult {
   const m = lm.free.length;
   const n = lm.n;
   const p = lm.p;
-  const chiSquare = evaluateResiduals(lm, p, buf.r);
+  // Residuals of every usable point (a point the robust loss gave weight 0 still has one).
+  evaluateResiduals({ ...lm, w: baseW }, p, buf.r);
+  let chiSquare = 0;
   let rss = 0;
-  for (let i = 0; i < n; i++) if (baseW[i]! > 0) rss += buf.r[i]! * buf.r[i]!;
+  for (let i = 0; i < n; i++) {
+    const r = buf.r[i]!;
+    if (baseW[i]! > 0) rss += r * r;
+    if (lm.w[i]! > 0) chiSquare += lm.w[i]! * r * r;
+  }
   const dof = used - m;
 
   let covariance: Float64Array | null = null;

@@ -116,9 +116,12 @@ export function fitLeastSquares(problem: FitProblem): FitResult {
     const c = opts.robustTuning ?? defaultTuning(loss);
     robustW = new Float64Array(n).fill(1);
     const scratch = new Float64Array(n);
+    // Residuals of every usable point, including those a redescending loss gave weight 0
+    // (the fit itself skips them), so that a point can regain weight.
+    const allPoints: LmProblem = { ...lm, w: baseW };
     let settled = false;
     for (let round = 0; round < MAX_ROBUST_ROUNDS; round++) {
-      evaluateResiduals(lm, p, buf.r);
+      evaluateResiduals(allPoints, p, buf.r);
       const change = updateRobustWeights(buf.r, baseW, n, loss, c, robustW, scratch);
       if (round > 0 && change < ROBUST_WEIGHT_CHANGE) {
         settled = true;
