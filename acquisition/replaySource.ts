@@ -168,6 +168,12 @@ export class ReplaySource implements ReadingSource {
     return { ...NO_REJECTS };
   }
 
+  /** Device time of the record's time zero (its first `mixed` event), or null when it has none (a CSV run). */
+  get recordedTimeZero_s(): number | null {
+    for (const p of this.timeline.events) if (p.event.ev === 'mixed') return p.event.t;
+    return null;
+  }
+
   /** Readings handed out so far. */
   get position(): number {
     return this.next;

@@ -1,0 +1,350 @@
+/**
+ * The recorder: one source feeding the journal and the streaming analyzer. Host-agnostic
+ * (no console, no signals, no Electron), so that `rateline record` and the desktop
+ * app's bench service can both drive it.
+ *
+ * Order of a run: the source opens; a device that sends raw counts is asked for a blank
+ * first (absorbance needs the blank reference I₀); then time zero (`mixed`) is written,
+ * and from it on every reading goes to the journal and, with its time measured from
+ * time zero, to the analyzer. Every reading is journalled before it is analysed, so a
+ * fault in the analysis can never lose a measurement.
+ */
+import { performance } from 'node:perf_hooks';
+import type { AnalysisResult, RunAnalyzerLike } from '../kinetics/analysisTypes';
+import { JournalError, type Journal } from './journal';
+import { isoWithLocalOffset, type RunEvent } from './runRecordFormat';
+import type { DeviceIdentity, RejectReason, Reading, ReadingSource, SourceEvent, SourceStatus } from './sourceTypes';
+
+export type StopReason = 'user' | 'signal' | 'limit' | 'advice' | 'sourceEnded' | 'error';
+
+/**
+ * Where time zero is: at the first reading (the headless default: the device is started
+ * once the reagents are mixed), at a given device time (an instrument whose clock starts
+ * at mixing, like the simulator), or when `markMixed()` is called.
+ */
+export type TimeZero = 'firstReading' | { deviceTime_s: number } | 'manual';
+
+export interface RecorderOptions {
+  source: ReadingSource;
+  journal: Journal;
+  analyzer: RunAnalyzerLike;
+  timeZero?: TimeZero;
+  /** The wavelength written in the record's header, so that a device reading at another is recorded as a change. */
+  wavelength_nm?: number | null;
+  /** Stop after this many seconds of run time (from time zero). */
+  maxRunSeconds?: number;
+  /** Stop when the analyzer's advice says the run has gone far enough and settled. */
+  untilAdvice?: boolean;
+  /** How long to wait for a counts device's blank before giving up. Default 60 s. */
+  blankTimeout_ms?: number;
+  now_ms?: () => number;
+  wallClock?: () => Date;
+}
+
+export interface RecorderProgress {
+  phase: 'opening' | 'blank' | 'waitingForTimeZero' | 'recording' | 'stopped';
+  /** Readings handed to the journal, and the device time of the last. */
+  journalled: number;
+  lastDeviceTime_s: number | null;
+  /** Readings known to be on disk. */
+  synced: number;
+  /** Readings given to the analyzer (from time zero on) and the run time of the last. */
+  analysed: number;
+  runTime_s: number | null;
+  status: SourceStatus | null;
+  identity: DeviceIdentity | null;
+  rejected: Record<RejectReason, number>;
+  gaps: number;
+  warnings: number;
+  lastWarning: string | null;
+}
+
+export interface RecorderOutcome {
+  reason: StopReason;
+  detail: string;
+  /** Set when the record could not be written to the end: the one-line message. */
+  error: string | null;
+  readings: number;
+  result: AnalysisResult;
+}
+
+export class Recorder {
+  private readonly source: ReadingSource;
+  private readonly journal: Journal;
+  private readonly analyzer: RunAnalyzerLike;
+  private readonly now: () => number;
+  private readonly wallClock: () => Date;
+  private readonly opts: RecorderOptions;
+  private phase: RecorderProgress['phase'] = 'opening';
+  private timeZero_s: number | null = null;
+  private lastT: number | null = null;
+  private runTime_s: number | null = null;
+  private wavelength_nm: number | null = null;
+  private status: SourceStatus | null = null;
+  private identity: DeviceIdentity | null = null;
+  private rejected: Record<RejectReason, number> = emptyRejects();
+  private rejectedDirtySince_ms: number | null = null;
+  private gaps = 0;
+  private warnings = 0;
+  private lastWarning: string | null = null;
+  private unsubscribe: Array<() => void> = [];
+  private blankTimer: ReturnType<typeof setTimeout> | null = null;
+  private stopping: Promise<RecorderOutcome> | null = null;
+  private resolveFinished!: (o: RecorderOutcome) => void;
+  /** Resolves once the recording has stopped and the record is closed. */
+  readonly finished: Promise<RecorderOutcome>;
+
+  constructor(options: RecorderOptions) {
+    this.opts = options;
+    this.source = options.source;
+    this.journal = options.journal;
+    this.analyzer = options.analyzer;
+    this.now = options.now_ms ?? (() => performance.now());
+    this.wallClock = options.wallClock ?? (() => new Date());
+    this.wavelength_nm = options.wavelength_nm ?? null;
+    this.finished = new Promise((resolve) => (this.resolveFinished = resolve));
+  }
+
+  /** Subscribes and opens the source. A source that cannot open stops the recording with reason 'error'. */
+  async start(): Promise<void> {
+    this.unsubscribe.push(this.source.on((e) => this.guard(() => this.onSourceEvent(e))));
+    const replay = this.source as ReadingSource & { onRecorded?: (l: (e: RunEvent) => void) => () => void };
+    if (typeof replay.onRecorded === 'function') this.unsubscribe.push(replay.onRecorded((e) => this.guard(() => this.onRecordedEvent(e))));
+    try {
+      await this.source.open();
+    } catch (err) {
+      void this.stop('error', err instanceof Error ? err.message : String(err));
+      return;
+    }
+    if (this.phase === 'opening') this.phase = this.opts.timeZero === 'manual' ? 'waitingForTimeZero' : 'recording';
+  }
+
+  /** Time zero now (the reagents were just mixed): for `timeZero: 'manual'`. */
+  markMixed(): void {
+    if (this.timeZero_s !== null || this.stopping) return;
+    this.setTimeZero(this.lastT ?? 0);
+  }
+
+  /** A note at this point of the run. */
+  mark(note: string): void {
+    if (this.stopping) return;
+    this.guard(() => this.journal.event({ ev: 'mark', h: this.h(), t: this.lastT, note }));
+  }
+
+  /** Stops the recording: the source is closed, the stop and end lines written, the file closed. */
+  stop(reason: StopReason, detail: string): Promise<RecorderOutcome> {
+    if (this.stopping) return this.stopping;
+    this.stopping = this.doStop(reason, detail, null);
+    return this.stopping;
+  }
+
+  result(): AnalysisResult {
+    return this.analyzer.result();
+  }
+
+  progress(): RecorderProgress {
+    const j = this.journal.progress();
+    return {
+      phase: this.phase,
+      journalled: j.readings,
+      lastDeviceTime_s: j.lastDeviceTime_s,
+      synced: j.syncedReadings,
+      analysed: this.analyzer.count,
+      runTime_s: this.runTime_s,
+      status: this.status,
+      identity: this.identity,
+      rejected: { ...this.rejected },
+      gaps: this.gaps,
+      warnings: this.warnings,
+      lastWarning: this.lastWarning,
+    };
+  }
+
+  private async doStop(reason: StopReason, detail: string, error: string | null): Promise<RecorderOutcome> {
+    const wasRecording = this.phase;
+    this.phase = 'stopped';
+    if (this.blankTimer) clearTimeout(this.blankTimer);
+    for (const u of this.unsubscribe) u();
+    this.unsubscribe = [];
+    try {
+      await this.source.close();
+    } catch {
+      // The port may already be gone (that may be why we stop); the record is what matters.
+    }
+    let writeError = error;
+    if (!this.journal.isClosed) {
+      try {
+        if (writeError === null) {
+          this.flushRejected(true);
+          this.journal.event({ ev: 'stop', h: this.h(), t: this.lastT, reason, detail: detail || reason });
+          this.journal.close(this.rejected);
+        } else {
+          this.journal.abandon();
+        }
+      } catch (err) {
+        writeError = err instanceof Error ? err.message : String(err);
+        this.journal.abandon();
+      }
+    }
+    const outcome: RecorderOutcome = {
+      reason: writeError !== null && reason !== 'error' ? 'error' : reason,
+      detail: wasRecording === 'blank' && reason === 'error' ? `during the blank: ${detail}` : detail,
+      error: writeError,
+      readings: this.journal.progress().readings,
+      result: this.analyzer.result(),
+    };
+    this.resolveFinished(outcome);
+    return outcome;
+  }
+
+  /** A fault while writing stops the recording at once; nothing after it can be saved. */
+  private guard(fn: () => void): void {
+    if (this.stopping) return;
+    try {
+      fn();
+    } catch (err) {
+      const message = err instanceof Error ? err.message : String(err);
+      const writeFailed = err instanceof JournalError;
+      this.stopping = this.doStop('error', message, writeFailed ? message : null);
+    }
+  }
+
+  private onSourceEvent(e: SourceEvent): void {
+    switch (e.type) {
+      case 'reading':
+        this.onReading(e.reading);
+        break;
+      case 'status':
+        this.onStatus(e.status);
+        break;
+      case 'rejected':
+        this.rejected = { ...this.rejected, ...e.counts };
+        this.rejectedDirtySince_ms ??= this.now();
+        this.flushRejected(false);
+        break;
+      case 'gap':
+        this.gaps++;
+        this.journal.event({
+          ev: 'gap', h: this.h(), t: this.lastT,
+          from_h: this.journal.hostOffset_ms(e.from_ms), to_h: this.journal.hostOffset_ms(e.to_ms), reason: e.reason,
+        });
+        break;
+      case 'warning':
+        this.warn(e.message);
+        break;
+      case 'blank':
+        this.journal.event({
+          ev: 'blank', h: this.h(), t: e.blank.deviceTime_s,
+          detail: `blank of ${e.blank.points} readings at ${e.blank.wavelength_nm} nm (net ${e.blank.netBlank_counts} counts, dark ${e.blank.dark_counts})`,
+          noise_AU: e.blank.noise_AU, drift_AUperMin: e.blank.drift_AUperMin,
+        });
+        for (const w of e.blank.warnings) this.warn(w);
+        if (this.blankTimer) clearTimeout(this.blankTimer);
+        this.blankTimer = null;
+        if (this.phase === 'blank') this.phase = this.opts.timeZero === 'manual' ? 'waitingForTimeZero' : 'recording';
+        break;
+      case 'spectrum':
+        // Spectra serve the wavelength choice on screen; the run record keeps the single-wavelength feed.
+        break;
+    }
+  }
+
+  private onStatus(status: SourceStatus): void {
+    this.status = status;
+    this.journal.event({ ev: 'status', h: this.h(), t: this.lastT, status: { ...status } });
+    if (status.kind === 'connected' && status.identity) this.onIdentity(status.identity);
+    if (status.kind === 'ended') void this.stop('sourceEnded', status.detail);
+  }
+
+  private onIdentity(identity: DeviceIdentity): void {
+    const first = this.identity === null;
+    this.identity = identity;
+    this.journal.event({ ev: 'meta', h: this.h(), t: this.lastT, instrument: { identity } });
+    if (first && identity.sends === 'counts' && this.timeZero_s === null) this.askForBlank();
+  }
+
+  private askForBlank(): void {
+    this.phase = 'blank';
+    const timeout_ms = this.opts.blankTimeout_ms ?? 60_000;
+    this.blankTimer = setTimeout(() => {
+      void this.stop('error', `the instrument sent no blank within ${Math.round(timeout_ms / 1000)} s; check the blank cuvette and the cable, then record again.`);
+    }, timeout_ms);
+    this.blankTimer.unref?.();
+    void this.source.command({ type: 'takeBlank' }).then(
+      (r) => {
+        if (!r.ok) void this.stop('error', `the instrument refused the blank: ${r.error}`);
+      },
+      (err: unknown) => void this.stop('error', `the blank could not be asked for (${err instanceof Error ? err.message : String(err)})`),
+    );
+  }
+
+  private onRecordedEvent(e: RunEvent): void {
+    // Re-recording a replay: its time zero and notes carry over; the rest is the replay's own doing.
+    if (e.ev === 'mixed' && this.timeZero_s === null && e.t !== null) this.setTimeZero(e.t);
+    else if (e.ev === 'mark') this.journal.event({ ev: 'mark', h: this.h(), t: e.t, note: e.note });
+    else if (e.ev === 'blank') this.journal.event({ ...e, h: this.h() });
+  }
+
+  private onReading(r: Reading): void {
+    if (this.phase === 'blank') return; // a counts device sends no absorbance until its blank is in
+    if (r.wavelength_nm !== null && r.wavelength_nm !== this.wavelength_nm) {
+      // The header holds the wavelength the run was set up with; a different one from the device is a change.
+      this.journal.event({ ev: 'meta', h: this.h(), t: r.deviceTime_s, run: { wavelength_nm: r.wavelength_nm } });
+      this.wavelength_nm = r.wavelength_nm;
+    }
+    const tz = this.timeZeroRule();
+    if (this.timeZero_s === null && tz !== 'manual') this.setTimeZero(tz === 'firstReading' ? r.deviceTime_s : tz.deviceTime_s);
+    const before = this.journal.progress().readings;
+    this.journal.reading(r);
+    if (this.journal.progress().readings === before) return; // left out (time backwards): not analysed either
+    this.lastT = r.deviceTime_s;
+    this.flushRejected(false);
+    if (this.timeZero_s === null || r.deviceTime_s < this.timeZero_s) return;
+    const t = r.deviceTime_s - this.timeZero_s;
+    this.runTime_s = t;
+    this.analyzer.add(t, r.absorbance);
+    const max = this.opts.maxRunSeconds;
+    if (max !== undefined && t >= max) {
+      void this.stop('limit', `run time reached ${max} s`);
+      return;
+    }
+    if (this.opts.untilAdvice && this.analyzer.result().stop.suggested) {
+      void this.stop('advice', this.analyzer.result().stop.reason);
+    }
+  }
+
+  /** A replayed record brings its own time zero; otherwise the option, or the first reading. */
+  private timeZeroRule(): TimeZero {
+    if (this.opts.timeZero !== undefined) return this.opts.timeZero;
+    const recorded = (this.source as { recordedTimeZero_s?: number | null }).recordedTimeZero_s;
+    return typeof recorded === 'number' ? { deviceTime_s: recorded } : 'firstReading';
+  }
+
+  private setTimeZero(deviceTime_s: number): void {
+    this.timeZero_s = deviceTime_s;
+    this.phase = 'recording';
+    this.journal.event({ ev: 'mixed', h: this.h(), t: deviceTime_s, wall: isoWithLocalOffset(this.wallClock()) });
+  }
+
+  private warn(message: string): void {
+    this.warnings++;
+    this.lastWarning = message;
+    this.journal.event({ ev: 'warning', h: this.h(), t: this.lastT, message });
+  }
+
+  /** Rejected-line totals go into the record at most once a second (a noisy line can reject hundreds). */
+  private flushRejected(force: boolean): void {
+    if (this.rejectedDirtySince_ms === null) return;
+    if (!force && this.now() - this.rejectedDirtySince_ms < 1000) return;
+    this.rejectedDirtySince_ms = null;
+    this.journal.event({ ev: 'rejected', h: this.h(), t: this.lastT, counts: { ...this.rejected } });
+  }
+
+  private h(): number {
+    return this.journal.hostOffset_ms(this.now());
+  }
+}
+
+function emptyRejects(): Record<RejectReason, number> {
+  return { checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 };
+}
