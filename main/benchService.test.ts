@@ -9,6 +9,7 @@ import type { AnalysisResult } from '../kinetics/analysisTypes';
 import { EventSchema, type BridgeEvent } from './bridge/contract';
 import { BenchService } from './benchService';
 import { openJournalSink } from './bench/journalSink';
+import { createBenchService, DEMO_DURATION_S } from './bench/benchWiring';
 import type { AnalyzerOptions, ModelSummary, RunAnalyzerLike } from '../kinetics/analysisTypes';
 
 /** A stand-in analyzer for these wiring tests: counts what it is fed, fits nothing. */
@@ -53,7 +54,7 @@ function burstSource(points: number, perBurst = 50): ReadingSource & { commands:
       if (cmd.type === 'start') {
         timer = setInterval(() => {
           for (let b = 0; b < perBurst && i < run.time_s.length; b++, i++) {
-            send({ type: 'reading', reading: { deviceTime_s: 100 + run.time_s[i]!, hostTime_ms: performance.now(), absorbance: run.absorbance[i]!, wavelength_nm: 630, cellTemperature_C: null, flags: 0 } });
+            send({ type: 'reading', reading: { deviceTime_s: run.time_s[i]!, hostTime_ms: performance.now(), absorbance: run.absorbance[i]!, wavelength_nm: 630, cellTemperature_C: null, flags: 0 } });
           }
           if (i >= run.time_s.length && timer) {
             clearInterval(timer);
@@ -208,4 +209,29 @@ describe('bench service', () => {
     expect(svc.snapshot().demo).toBe(false);
     await svc.dispose();
   });
+
+  it('runs the real simulated instrument, analyzer and journal to the end of the demo run', async () => {
+    const svc = createBenchService({ host: 'web', dataDir: dir, speed: 10_000 });
+    const events: BridgeEvent[] = [];
+    svc.subscribe((e) => events.push(e));
+    expect((await svc.handle({ type: 'start' })).ok).toBe(true);
+    await until(events, (e) => e.type === 'record' && e.status === 'closed', 25_000);
+    await until(events, (e) => e.type === 'analysis' && e.atCount === svc.snapshot().pointCount);
+    const state = svc.snapshot();
+    expect(state.demo).toBe(true);
+    expect(state.pointCount).toBe(DEMO_DURATION_S); // one reading a second of the demo (DEMO.md: 1 s interval)
+    const last = [...events].reverse().find((e) => e.type === 'analysis') as Extract<BridgeEvent, { type: 'analysis' }>;
+    expect(EventSchema.safeParse(last).success).toBe(true);
+    // DEMO.md: k_obs = 0.35 M⁻¹ s⁻¹ × 0.010 M = 3.5 × 10⁻³ s⁻¹, first order in the dye
+    expect(last.result.verdict.order).toBe('first');
+    const [lo, hi] = last.result.models.first.kCI95!;
+    expect(lo).toBeLessThan(3.5e-3);
+    expect(hi).toBeGreaterThan(3.5e-3);
+    expect(hi - lo).toBeLessThan(0.2 * 3.5e-3);
+    expect(last.result.stop.state).toBe('farEnough');
+    const rec = readRunRecord(state.recordPath!);
+    expect(rec.readings.count).toBe(state.pointCount);
+    expect(rec.header.demo).toBe(true);
+    await svc.dispose();
+  }, 40_000);
 });

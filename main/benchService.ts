@@ -282,15 +282,21 @@ export class BenchService {
 
   private async startRun(): Promise<void> {
     if (this.state.phase === 'running') throw new Refusal('start: a run is already going; stop it first.');
+    // The simulated instrument and a replay start afresh for every run: the simulated
+    // reaction begins at the instrument's time zero, and a record plays from its start.
+    const fresh = this.state.source.kind !== 'serial';
+    if (fresh) await this.closeSource();
     await this.connect();
     const started = new Date();
     const runId = newRunId(started);
     this.series.clear();
     this.outbox.reset();
-    this.firstDeviceTime_s = null;
+    // The simulated instrument's clock starts at mixing; other sources' run clock starts at their first reading.
+    const simulated = this.state.source.kind === 'simulated';
+    this.firstDeviceTime_s = simulated ? 0 : null;
     this.lastHost_ms = [];
     this.state.runId = runId;
-    this.state.timeZero_s = null;
+    this.state.timeZero_s = simulated ? 0 : null;
     this.state.fitWindow = { from_s: null, to_s: null };
     const path = join(this.deps.dataDir, recordFileName(runId));
     this.record = await this.deps.openRecord({
