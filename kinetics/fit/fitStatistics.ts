@@ -55,13 +55,20 @@ export function assembleFitResult(parts: FitOutcomeParts): FitResult {
     const inv = new Float64Array(m * m);
     if (finite && invertSymmetricPositive(buf.jtj, m, inv, new Float64Array(m * m + m))) {
       const s2 = chiSquare / dof;
-      for (let k = 0; k < m * m; k++) inv[k] = inv[k]! * s2;
-      covariance = inv;
+      let finiteCov = true;
+      for (let k = 0; k < m * m; k++) {
+        inv[k] = inv[k]! * s2;
+        if (!Number.isFinite(inv[k]!)) finiteCov = false;
+      }
+      if (finiteCov) covariance = inv;
+    }
+    if (covariance) {
+      const cov = covariance;
       correlation = new Float64Array(m * m);
       for (let i = 0; i < m; i++) {
         for (let j = 0; j < m; j++) {
-          const d = Math.sqrt(inv[i * m + i]! * inv[j * m + j]!);
-          correlation[i * m + j] = i === j ? 1 : d > 0 ? inv[i * m + j]! / d : 0;
+          const d = Math.sqrt(cov[i * m + i]!) * Math.sqrt(cov[j * m + j]!);
+          correlation[i * m + j] = i === j ? 1 : d > 0 ? cov[i * m + j]! / d : 0;
         }
       }
     } else {
@@ -91,6 +98,7 @@ export function assembleFitResult(parts: FitOutcomeParts): FitResult {
       if (covariance) {
         stdErr = Math.sqrt(covariance[j * m + j]!);
         ci = [value - tq * stdErr, value + tq * stdErr];
+        if (!Number.isFinite(ci[0]) || !Number.isFinite(ci[1])) ci = null;
       }
       if (atBound) {
         const side = value <= lm.lower[j]! ? 'lower' : 'upper';
@@ -108,13 +116,24 @@ export function assembleFitResult(parts: FitOutcomeParts): FitResult {
   let aicc: number | null = null;
   if (used - K - 1 <= 0) warnings.push(`AICc needs at least ${K + 2} points for ${m} free parameter(s); it is not available.`);
   else if (!(chiSquare > 0)) warnings.push('the model passes exactly through every point (χ² = 0); AICc is not defined.');
-  else aicc = used * Math.log(chiSquare / used) + 2 * K + (2 * K * (K + 1)) / (used - K - 1);
+  else {
+    // ln χ² − ln n rather than ln(χ²/n): a tiny χ² must not underflow to ln 0.
+    aicc = used * (Math.log(chiSquare) - Math.log(used)) + 2 * K + (2 * K * (K + 1)) / (used - K - 1);
+    if (!Number.isFinite(aicc)) aicc = null;
+  }
 
   const outliers: number[] = [];
   if (robustW) for (let i = 0; i < n; i++) if (baseW[i]! > 0 && robustW[i]! < 0.5) outliers.push(i);
 
+  // Data far outside double range (|y| near 1e154 and beyond) overflow when squared.
+  let ok = true;
+  if (!Number.isFinite(chiSquare) || !Number.isFinite(rss) || parameters.some((q) => !Number.isFinite(q.value))) {
+    ok = false;
+    warnings.push('the residuals are too large to square in double precision; rescale the data (e.g. other units) and fit again.');
+  }
+
   return {
-    ok: true,
+    ok,
     parameters,
     byName,
     covariance,

@@ -189,6 +189,10 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
   evaluateJacobian(prob, p, buf);
   if (!normalEquations(prob, buf)) return { chiSquare: chi2, iterations: 0, converged: false, problem: 'the model derivatives are not finite at the starting values' };
   diagScale.fill(0);
+  // χ² at the rounding level of the data themselves: an exact fit, nothing left to gain.
+  let yScale = 0;
+  for (let i = 0; i < prob.n; i++) if (prob.w[i] !== 0) yScale += prob.w[i]! * prob.y[i]! * prob.y[i]!;
+  const exactFit = 1e-28 * yScale;
   let lambda = 1e-3;
   const xTol = Math.sqrt(tolerance);
   for (let iter = 1; iter <= maxIterations; iter++) {
@@ -268,7 +272,7 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
     chi2 = trialChi2;
     lambda = Math.max(lambda / 10, 1e-12);
     const small = relChi <= tolerance && Math.sqrt(stepNorm) <= xTol * (Math.sqrt(pNorm) + xTol);
-    if (small || chi2 === 0) return { chiSquare: chi2, iterations: iter, converged: true, problem: null };
+    if (small || chi2 <= exactFit) return { chiSquare: chi2, iterations: iter, converged: true, problem: null };
     evaluateJacobian(prob, p, buf);
     if (!normalEquations(prob, buf)) return { chiSquare: chi2, iterations: iter, converged: false, problem: 'the model derivatives stopped being finite' };
   }
