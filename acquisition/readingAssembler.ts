@@ -49,6 +49,8 @@ export class ReadingAssembler {
   private timeOffset_s = 0;
   private lastDeviceTime_s: number | null = null;
   private lastHost_ms = 0;
+  private lastRawTime_s: number | null = null;
+  private restartCheck = false;
   private referenceTemp_C: number | null = null;
   private temperatureOut = false;
   private problemsReported = 0;
@@ -77,16 +79,12 @@ export class ReadingAssembler {
       case 'rejected':
         this.emit({ type: 'rejected', reason: line.reason, line: raw.length > 200 ? raw.slice(0, 200) + '…' : raw, counts: { ...counts } });
         return;
-      case 'identity': {
-        const again = this.identity !== null || this.lastDeviceTime_s !== null;
+      case 'identity':
+        // A device answers `who` with its identity, and sends it when it starts. Only a clock that
+        // then goes backwards means a restart (see reading()).
         this.identity = line.identity;
-        if (again && this.lastDeviceTime_s !== null) {
-          // The device restarted and its clock with it; carry on from the last time plus the host's elapsed time.
-          this.timeOffset_s = this.lastDeviceTime_s + Math.max(0, (hostTime_ms - this.lastHost_ms) / 1000);
-          this.emit({ type: 'warning', message: `the device identified itself again (restart?); its clock restarts, readings continue from ${this.timeOffset_s.toFixed(1)} s` });
-        }
+        this.restartCheck = true;
         return;
-      }
       case 'ack':
       case 'nak':
         this.onAnswer({ ok: line.kind === 'ack', seq: line.seq, verb: line.verb, reason: line.kind === 'nak' ? line.reason : '' });
@@ -165,6 +163,13 @@ export class ReadingAssembler {
     sampleCounts?: number, darkCounts?: number | null,
   ): void {
     if (!Number.isFinite(absorbance)) return; // the parser already refuses these; a second guard costs nothing
+    if (this.restartCheck && this.lastRawTime_s !== null && this.lastDeviceTime_s !== null && deviceTime_s < this.lastRawTime_s) {
+      // The device restarted and its clock with it: carry on from the last time plus the host's elapsed time.
+      this.timeOffset_s = this.lastDeviceTime_s + Math.max(0, (hostTime_ms - this.lastHost_ms) / 1000) - deviceTime_s;
+      this.emit({ type: 'warning', message: `the device restarted (its clock went from ${this.lastRawTime_s.toFixed(3)} s back to ${deviceTime_s.toFixed(3)} s); readings continue on the run's time line` });
+    }
+    this.restartCheck = false;
+    this.lastRawTime_s = deviceTime_s;
     const t = deviceTime_s + this.timeOffset_s;
     this.lastDeviceTime_s = t;
     this.lastHost_ms = hostTime_ms;
