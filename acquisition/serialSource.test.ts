@@ -1,5 +1,10 @@
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { MockBinding, type MockPortBinding } from '@serialport/binding-mock';
+import { SerialPortMock } from 'serialport';
+
+// @serialport/binding-mock, reached through serialport's re-export: the mock package's own
+// type declarations are not reachable under this project's module resolution (Bundler).
+const MockBinding = SerialPortMock.binding;
+type MockPortBinding = Awaited<ReturnType<typeof MockBinding.open>>;
 import { SerialSource, type PortBinding } from './serialSource';
 import { openFailureMessage, classifyOpenError } from './portErrors';
 import { SimulatedInstrument, defaultInstrumentSettings } from './simulatedInstrument';
