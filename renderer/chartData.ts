@@ -21,7 +21,10 @@ export interface ChartFrame {
   xMax: number;
   yMin: number;
   yMax: number;
-  /** Largest |residual| drawn, for a symmetric residual axis. */
+  /**
+   * Half-height of the residual axis: the 98th percentile of |residual|, so that one
+   * spike (ringed as an outlier on the chart above) does not flatten the noise band.
+   */
   residualMax: number;
   /** Readings the view could not show (at or below A∞ in a linearised view). */
   hidden: number;
@@ -62,6 +65,8 @@ export function emptyFrame(): ChartFrame {
  */
 export class ChartFrameBuilder {
   private reduced: DecimatedSeries = emptyDecimated(4096);
+  private reducedKey = '';
+  private absResiduals: number[] = [];
   private shifted = new Float64Array(0);
   private shiftedCount = 0;
   private shiftedZero = NaN;
@@ -88,9 +93,16 @@ export class ChartFrameBuilder {
     out.firstInWindow_s = firstInWindow < n ? t[firstInWindow]! : 0;
     out.windowFrom = input.fitWindow.from_s ?? Math.max(0, out.firstInWindow_s);
     out.windowTo = input.fitWindow.to_s ?? out.xMax;
-    const r = decimateMinMax(t, series.absorbance, n, out.xMin, out.xMax, input.columns, this.reduced);
+    // A new fit alone does not move the readings: reuse their reduction then.
+    const key = `${series.generation}|${n}|${zero}|${input.columns}|${out.xMin}|${out.xMax}`;
+    if (key !== this.reducedKey) {
+      decimateMinMax(t, series.absorbance, n, out.xMin, out.xMax, input.columns, this.reduced);
+      this.reducedKey = key;
+    }
+    const r = this.reduced;
     const drive = analysis ? curveParameters(analysis, analysis.verdict.order === 'undecided' ? analysis.drivingModel : analysis.verdict.order, out.firstInWindow_s) : null;
     let yMin = Infinity, yMax = -Infinity;
+    this.absResiduals.length = 0;
     for (let i = 0; i < r.count; i++) {
       const ti = r.x[i]!;
       const a = r.y[i]!;
@@ -108,12 +120,15 @@ export class ChartFrameBuilder {
       if (drive && inside) {
         // Residuals in absorbance whatever the view: what the fit actually minimised.
         res = a - curveAbsorbance(drive, ti);
-        const m = Math.abs(res);
-        if (m > out.residualMax) out.residualMax = m;
+        this.absResiduals.push(Math.abs(res));
       }
       out.residual.push(res);
     }
     out.drawn = r.count;
+    if (this.absResiduals.length) {
+      this.absResiduals.sort((p, q) => p - q);
+      out.residualMax = this.absResiduals[Math.min(this.absResiduals.length - 1, Math.floor(0.98 * this.absResiduals.length))]!;
+    }
     if (!(yMax >= yMin)) { yMin = 0; yMax = 1; }
     const pad = Math.max((yMax - yMin) * 0.06, Math.abs(yMax) * 1e-3, 1e-6);
     out.yMin = yMin - pad;

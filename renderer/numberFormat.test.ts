@@ -40,6 +40,7 @@ describe('numbers with uncertainties', () => {
     expect(prettyUnit('s^-1')).toBe('s⁻¹');
     expect(prettyUnit('AU^-1 s^-1')).toBe('AU⁻¹ s⁻¹');
     expect(prettyUnit('M s⁻¹')).toBe('M s⁻¹');
+    expect(prettyUnit('AU^(1-n) s^-1')).toBe('AU¹⁻ⁿ s⁻¹');
   });
 
   it('writes durations and fractions in words a person reads at a glance', () => {

@@ -82,7 +82,8 @@ export function formatInterval(ci: [number, number] | null): string {
 
 /** A rate-constant unit as written in text: "s^-1" → "s⁻¹", "M^-1 s^-1" → "M⁻¹ s⁻¹". */
 export function prettyUnit(unit: string): string {
-  return unit.replace(/\^(-?\d+(?:\.\d+)?)/g, (_m, p: string) => superscript(Number(p)).replace('.', '·'));
+  return unit
+    .replace(/\^\(1-n\)/g, '¹⁻ⁿ').replace(/\^(-?\d+(?:\.\d+)?)/g, (_m, p: string) => superscript(Number(p)).replace('.', '·'));
 }
 
 /** A duration in words a person reads at a glance: "45 s", "4 min 10 s", "1 h 02 min". */

@@ -79,6 +79,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
         fitWindow: state.bench?.fitWindow ?? { from_s: null, to_s: null },
         view: state.view,
         marks: state.marks,
+        wavelength_nm: state.bench?.wavelength_nm ?? null,
       });
       const w = state.bench?.fitWindow;
       const inWin = state.analysis?.pointsInWindow;

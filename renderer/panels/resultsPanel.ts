@@ -6,7 +6,7 @@
  */
 import type { AnalysisResultView } from '../../main/bridge/contract';
 import { h, setHidden, setText } from '../elements';
-import { ciHalfWidth, formatInterval, formatPlusMinus, prettyUnit } from '../numberFormat';
+import { ciHalfWidth, formatInterval, formatPlusMinus, prettyUnit, roundWithUncertainty, superscript } from '../numberFormat';
 import type { ScreenState } from '../store';
 import { CURVE_STYLE } from './runChart';
 
@@ -62,8 +62,14 @@ export function createResultsPanel(): ResultsPanel {
       }
       const model = a.verdict.order === 'undecided' ? a.drivingModel : a.verdict.order;
       const m = a.models[model];
-      setText(kValue, formatPlusMinus(m.k, ciHalfWidth(m.kCI95) ?? m.kStdErr));
-      setText(kUnit, prettyUnit(a.units.k[model]));
+      // The mantissa large, the power of ten with the unit beneath: it reads across a room.
+      const unc = ciHalfWidth(m.kCI95) ?? m.kStdErr;
+      if (m.k === null) { setText(kValue, '—'); setText(kUnit, prettyUnit(a.units.k[model])); }
+      else {
+        const r = roundWithUncertainty(m.k, unc ?? NaN);
+        setText(kValue, r.uncertainty ? `${r.value} ± ${r.uncertainty}` : r.value);
+        setText(kUnit, `${r.exponent ? `× 10${superscript(r.exponent)} ` : ''}${prettyUnit(a.units.k[model])}`);
+      }
       setText(kModel, a.verdict.order === 'undecided'
         ? `${ORDER_WORDS[model]}, assumed while the order is undecided; ± is the 95 % CI half-width`
         : `${ORDER_WORDS[model]} fit; ± is the 95 % CI half-width`);

@@ -20,6 +20,7 @@ export interface ChartInput {
   fitWindow: { from_s: number | null; to_s: number | null };
   view: ChartView;
   marks: RunMark[];
+  wavelength_nm: number | null;
 }
 
 export interface RunChart {
@@ -34,6 +35,8 @@ function axis(label: string, size = 64): uPlot.Axis {
   return {
     label, stroke: PALETTE.ink, font: AXIS_FONT, labelFont: LABEL_FONT, size, labelSize: 22,
     grid: { stroke: PALETTE.grid, width: 1 }, ticks: { stroke: PALETTE.grid, width: 1 },
+    // Tick labels with a true minus sign and no float noise (0.30000000000000004).
+    values: (_u, splits) => splits.map((v) => String(Number(v.toPrecision(6))).replace('-', '−')),
   };
 }
 
@@ -50,26 +53,32 @@ export function createRunChart(
   let frame = emptyFrame();
   let last: ChartInput | null = null;
 
-  const overlay = (u: uPlot): void => {
+  const clipped = (u: uPlot, paint: (px: number) => void): void => {
     if (!last) return;
-    const ctx = u.ctx;
     const { left, top, width, height } = u.bbox;
-    const px = devicePixelRatio || 1;
-    ctx.save();
-    ctx.beginPath();
-    ctx.rect(left, top, width, height);
-    ctx.clip();
-    // The parts left out of the fit are veiled, not removed.
+    u.ctx.save();
+    u.ctx.beginPath();
+    u.ctx.rect(left, top, width, height);
+    u.ctx.clip();
+    paint(devicePixelRatio || 1);
+    u.ctx.restore();
+  };
+  // Under the readings: the veil over what the fit leaves out, and the fitted curves,
+  // so that the curves never hide the points they were fitted to.
+  const under = (u: uPlot): void => clipped(u, (px) => {
+    const { left, top, width, height } = u.bbox;
     const wl = u.valToPos(frame.windowFrom, 'x', true);
     const wr = u.valToPos(frame.windowTo, 'x', true);
-    ctx.fillStyle = PALETTE.veil;
-    if (wl > left) ctx.fillRect(left, top, wl - left, height);
-    if (wr < left + width) ctx.fillRect(wr, top, left + width - wr, height);
-    drawCurves(u, last, frame, px);
-    drawOutliers(u, last, frame, px);
-    drawMarks(u, last, px);
-    ctx.restore();
-  };
+    u.ctx.fillStyle = PALETTE.veil;
+    if (wl > left) u.ctx.fillRect(left, top, Math.min(wl, left + width) - left, height);
+    if (wr < left + width) u.ctx.fillRect(Math.max(wr, left), top, left + width - Math.max(wr, left), height);
+    drawCurves(u, last!, frame, px);
+  });
+  // Over them: outlier rings and the marks.
+  const over = (u: uPlot): void => clipped(u, (px) => {
+    drawOutliers(u, last!, frame, px);
+    drawMarks(u, last!, px);
+  });
 
   const main = new uPlot(
     {
@@ -81,7 +90,8 @@ export function createRunChart(
       cursor: { drag: { x: true, y: false, setScale: false }, sync: { key: 'rateline-run' }, points: { show: false } },
       select: { show: true, left: 0, top: 0, width: 0, height: 0 },
       hooks: {
-        draw: [overlay],
+        drawClear: [under],
+        draw: [over],
         setSelect: [
           (u) => {
             if (u.select.width < 4) return;
@@ -132,13 +142,13 @@ export function createRunChart(
       last = input;
       const columns = Math.max(50, Math.round(main.bbox.width / (devicePixelRatio || 1)));
       frame = builder.build({ ...input, columns }, frame);
-      main.axes[1]!.label = input.view === 'absorbance' ? 'A' : input.view === 'ln' ? 'ln(A − A∞)' : '1 / (A − A∞)';
+      main.axes[1]!.label = input.view === 'absorbance' ? `A${input.wavelength_nm ? ` at ${input.wavelength_nm} nm` : ''}` : input.view === 'ln' ? 'ln(A − A∞)' : '1 / (A − A∞)';
       main.batch(() => {
         main.setData([frame.x, frame.inWindow, frame.outside] as uPlot.AlignedData, false);
         main.setScale('x', { min: frame.xMin, max: frame.xMax });
         main.setScale('y', { min: frame.yMin, max: frame.yMax });
       });
-      const rm = frame.residualMax > 0 ? frame.residualMax * 1.15 : 0.01;
+      const rm = frame.residualMax > 0 ? frame.residualMax * 1.25 : 0.01;
       residual.batch(() => {
         residual.setData([frame.x, frame.residual] as uPlot.AlignedData, false);
         residual.setScale('x', { min: frame.xMin, max: frame.xMax });

@@ -112,7 +112,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
         if (b.wavelength_nm !== null) wavelength.value = String(b.wavelength_nm);
         showRows();
       }
-      setText(sourceLabel, b ? `Now: ${b.sourceLabel}${b.demo ? ' (demo data)' : ''}` : '');
+      setText(sourceLabel, b ? `Now: ${b.sourceLabel}${b.demo && !/demo/i.test(b.sourceLabel) ? ' (demo data)' : ''}` : '');
       setText(status, statusWords(state));
       const r = b?.readingRate_perSecond;
       setText(rate, `Reading rate: ${r == null ? '—' : `${r.toFixed(r < 10 ? 2 : 0)} per second`}`);
