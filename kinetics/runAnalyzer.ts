@@ -64,8 +64,14 @@ export class RunAnalyzer implements RunAnalyzerLike {
   refits = 0;
 
   constructor(options: AnalyzerOptions = {}) {
+    // Options given as undefined take the default (a spread would let undefined win).
     this.opts = {
-      targetHalfLives: 3, precision: 0.05, weighted: options.signal === undefined, sigmaT: 0.001, robust: true, ...options,
+      ...options,
+      targetHalfLives: options.targetHalfLives ?? 3,
+      precision: options.precision ?? 0.05,
+      weighted: options.weighted ?? options.signal === undefined,
+      sigmaT: options.sigmaT ?? 0.001,
+      robust: options.robust ?? true,
     };
     this.series = allocSeries(TAIL_MAX + REFIT_CAP + 2 * 512 + 16);
     this.cached = emptyReport(this.opts, 'gathering readings');

@@ -1,6 +1,61 @@
-// Placeholder until the analyze command lands; replaced by its real implementation.
+/**
+ * `rateline analyze FILE [--format text|json] [--half-lives N] [--precision F] [--from S] [--to S]`:
+ * reads a recorded run, feeds its readings one by one to a RunAnalyzer (as they would
+ * arrive at the bench) and prints the final result. Exit 0 done, 2 bad input.
+ */
 import { InputError } from './cliErrors';
+import { numberOption, parseArgs } from './cliOptions';
+import { formatAnalysisText } from './analyzeReport';
+import { loadRun, RunFileError } from '../../acquisition/runFile';
+import { RunAnalyzer } from '../../kinetics/runAnalyzer';
+import { MIN_POINTS_TO_ESTIMATE } from '../../kinetics/stopAdvice';
 
-export async function run(_argv: string[]): Promise<number> {
-  throw new InputError('rateline analyze: not built yet in this version.');
+const HELP = `usage: rateline analyze FILE [--format text|json] [--half-lives N] [--precision F] [--from S] [--to S]
+
+  FILE            CSV with a header row naming time_s and absorbance (comma or semicolon
+                  separated; a decimal comma is accepted with semicolons)
+  --format        text (default) or json
+  --half-lives N  target in half-lives, i.e. fraction converted 1 − 2^(−N) (default 3)
+  --precision F   settled when the 95% CI half-width of k is within F × k (default 0.05)
+  --from S, --to S  fit window in seconds (readings outside are kept but not fitted)`;
+
+export async function run(argv: string[]): Promise<number> {
+  const cmd = 'analyze';
+  const args = parseArgs(cmd, argv, ['format', 'half-lives', 'precision', 'from', 'to']);
+  if (args.help) { console.log(HELP); return 0; }
+  if (args.positional.length !== 1) {
+    throw new InputError(`rateline analyze: ${args.positional.length === 0 ? 'no file given' : 'give one file only'}; usage: rateline analyze FILE [--format text|json].`);
+  }
+  const file = args.positional[0];
+  const format = args.options.get('format') ?? 'text';
+  if (format !== 'text' && format !== 'json') throw new InputError(`rateline analyze: --format ${format} is not known; use text or json.`);
+  const targetHalfLives = numberOption(cmd, args, 'half-lives', (x) => x > 0 && x <= 20, 'a number of half-lives between 0 and 20');
+  const precision = numberOption(cmd, args, 'precision', (x) => x > 0 && x < 1, 'a fraction between 0 and 1 (e.g. 0.05)');
+  const from_s = numberOption(cmd, args, 'from', () => true, 'a time in seconds');
+  const to_s = numberOption(cmd, args, 'to', () => true, 'a time in seconds');
+  if (from_s !== undefined && to_s !== undefined && !(to_s > from_s)) {
+    throw new InputError(`rateline analyze: the fit window --from ${from_s} --to ${to_s} is empty; --to must be later than --from.`);
+  }
+  let loaded;
+  try {
+    loaded = await loadRun(file);
+  } catch (err) {
+    if (err instanceof RunFileError) throw new InputError(err.message);
+    throw err;
+  }
+  const { time_s, absorbance } = loaded;
+  let inWindow = 0;
+  for (let i = 0; i < time_s.length; i++) {
+    if ((from_s === undefined || time_s[i] >= from_s) && (to_s === undefined || time_s[i] <= to_s)) inWindow++;
+  }
+  if (inWindow < MIN_POINTS_TO_ESTIMATE) {
+    const where = from_s !== undefined || to_s !== undefined ? ' in the fit window' : '';
+    throw new InputError(`${file}: only ${inWindow} reading(s)${where}; a fit needs at least ${MIN_POINTS_TO_ESTIMATE}. Record a longer run${where ? ' or widen --from/--to' : ''}.`);
+  }
+  const analyzer = new RunAnalyzer({ targetHalfLives, precision, from_s, to_s });
+  for (let i = 0; i < time_s.length; i++) analyzer.add(time_s[i], absorbance[i]);
+  const result = analyzer.flush();
+  if (format === 'json') console.log(JSON.stringify({ file, ...result }, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2));
+  else console.log(formatAnalysisText(file, result));
+  return 0;
 }
