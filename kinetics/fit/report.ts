@@ -72,7 +72,7 @@ export function fitReport(fit: FitResult, options: ReportOptions = {}): string {
   } else {
     lines.push(
       `Points n = ${fit.n}, free parameters ${fit.freeNames.length}, degrees of freedom ${fit.dof}; ` +
-        (fit.converged ? `converged after ${fit.iterations} iteration(s).` : `NOT converged (stopped after ${fit.iterations} iterations).`),
+        (fit.converged && fit.iterations === 0 ? 'solved directly (no iteration needed).' : fit.converged ? `converged after ${fit.iterations} iteration(s).` : `NOT converged (stopped after ${fit.iterations} iterations).`),
     );
   }
   lines.push('');
