@@ -62,7 +62,7 @@ export function finishWords(result: AnalysisResultView | null, now_s: number | n
   const at = `Target reached at t ≈ ${Math.round(s.predictedAt_s)}${err}`;
   if (now_s === null) return `${at}.`;
   const left_s = s.predictedAt_s - now_s;
-  if (left_s <= 0) return `${at} (passed).`;
+  if (left_s <= 0) return `Target reached at t ≈ ${Math.round(s.predictedAt_s)} s.`;
   // The run clock can run faster than the wall clock (a fast simulation, a replay).
   const wall = runPerWall && runPerWall > 0 ? left_s / runPerWall : left_s;
   return `${at}, about ${formatDuration(wall)} from now.`;

@@ -11,6 +11,11 @@ import { PALETTE } from './palette';
 import { createRunChart, CURVE_STYLE } from './runChart';
 
 const VIEW_WORDS: Record<ChartView, string> = { absorbance: 'A against t', ln: 'ln(A − A∞) against t', reciprocal: '1/(A − A∞) against t' };
+const VIEW_CAPTION: Record<ChartView, string> = {
+  absorbance: 'Absorbance against time after mixing, with each order’s fitted curve.',
+  ln: 'ln(A − A∞) against t: a straight line means first order (A∞ from the first-order fit).',
+  reciprocal: '1/(A − A∞) against t: a straight line means second order (A∞ from the second-order fit).',
+};
 const MODEL_WORDS = { zero: 'zero order', first: 'first order', second: 'second order', nth: 'n-th order' } as const;
 
 export interface ChartArea {
@@ -36,6 +41,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
     tabButtons.set(v, b);
     tabs.append(b);
   }
+  const caption = h('p', { class: 'view-caption small', 'data-testid': 'view-caption' });
   const mainEl = h('div', { class: 'chart-main', 'data-testid': 'chart' });
   const residualEl = h('div', { class: 'chart-residual' });
   const chart = createRunChart(mainEl, residualEl, (from_s, to_s) => {
@@ -54,6 +60,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
   const hiddenText = h('span', { class: 'small' });
   const element = h('section', { class: 'panel chart-area', 'aria-label': 'Run chart' },
     h('div', { class: 'chart-head' }, tabs, drawnText),
+    caption,
     mainEl,
     h('p', { class: 'residual-label small' }, 'Residuals (A − fit) of the order shown in the results, inside the fit window'),
     residualEl, legend,
@@ -62,7 +69,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
 
   const resize = () => {
     const w = Math.max(320, Math.floor(mainEl.clientWidth));
-    const total = Math.max(300, element.clientHeight - 170);
+    const total = Math.max(300, element.clientHeight - 190);
     chart.resize(w, Math.round(total * 0.74), Math.round(total * 0.26));
   };
   new ResizeObserver(() => { resize(); onResize(); }).observe(element);
@@ -72,6 +79,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
     resize,
     draw(state) {
       for (const [v, b] of tabButtons) b.setAttribute('aria-selected', String(v === state.view));
+      setText(caption, VIEW_CAPTION[state.view]);
       const frame = chart.draw({
         series: state.series,
         timeZero_s: state.bench?.timeZero_s ?? null,

@@ -41,10 +41,10 @@ export function createResultsPanel(): ResultsPanel {
 
   const element = h('section', { class: 'panel results', 'aria-label': 'Results' },
     h('h2', {}, 'Rate constant'),
-    h('p', { class: 'big' }, kValue, ' ', kUnit), kModel, kCI, halfLife,
+    h('p', { class: 'big' }, kValue, ' ', kUnit), kModel, kCI, note, halfLife,
     h('h3', {}, 'Order'), verdict,
     h('div', { class: 'weights', 'aria-label': 'Akaike weights' }, h('p', { class: 'small' }, 'Evidence (Akaike weights, sum 1):'), rows.zero.row, rows.first.row, rows.second.row),
-    reason, nth, outliers, warnings, note);
+    reason, nth, outliers, warnings);
 
   let shown: AnalysisResultView | null | undefined;
   return {

@@ -225,6 +225,9 @@ function drawOutliers(u: uPlot, input: ChartInput, frame: ChartFrame, px: number
 function drawMarks(u: uPlot, input: ChartInput, px: number): void {
   const ctx = u.ctx;
   ctx.font = `${13 * px}px system-ui, sans-serif`;
+  // uPlot leaves the axis text settings on the context; the labels start at the line.
+  ctx.textAlign = 'left';
+  ctx.textBaseline = 'alphabetic';
   ctx.fillStyle = PALETTE.mark;
   ctx.strokeStyle = PALETTE.mark;
   ctx.lineWidth = 1.5 * px;

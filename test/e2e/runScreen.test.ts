@@ -1,0 +1,141 @@
+/**
+ * The run screen end to end: the real `rateline serve` (simulated instrument, fast),
+ * Debian's Chromium, a person's actions (keys and a drag), and the run record on disk.
+ */
+import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { openChromium, type OpenBrowser } from './chromium';
+import { ROOT, startServe, type ServeChild } from './serveProcess';
+
+const ARTIFACTS = join(ROOT, 'test-artifacts');
+
+/** Every run-record file under a folder (found by content, not by name). */
+function recordFiles(dir: string): string[] {
+  const out: string[] = [];
+  for (const name of readdirSync(dir)) {
+    const p = join(dir, name);
+    if (statSync(p).isDirectory()) out.push(...recordFiles(p));
+    else if (readFileSync(p, 'utf8').slice(0, 200).includes('rateline-run-record')) out.push(p);
+  }
+  return out;
+}
+
+/** The record read plainly as JSON Lines, independent of the program's own reader. */
+function readRecord(path: string) {
+  const lines = readFileSync(path, 'utf8').split('\n').filter((l) => l.trim());
+  const values = lines.map((l) => JSON.parse(l) as unknown);
+  const readings = values.filter((v): v is number[] => Array.isArray(v));
+  const events = values.filter((v): v is Record<string, unknown> => !Array.isArray(v) && typeof v === 'object' && v !== null);
+  return { header: events[0]!, readings, events };
+}
+
+function countIn(text: string | null): number {
+  const m = /(\d+) readings/.exec(text ?? '');
+  return m ? Number(m[1]) : -1;
+}
+
+describe('run screen against the real bench service', () => {
+  let dataDir: string;
+  let serve: ServeChild;
+  let browser: OpenBrowser;
+  const problems: string[] = [];
+
+  beforeAll(async () => {
+    dataDir = mkdtempSync(join(tmpdir(), 'rateline-e2e-'));
+    serve = await startServe(['--data-dir', dataDir, '--speed', '100']);
+    browser = await openChromium({ width: 1280, height: 800 });
+    browser.page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
+    browser.page.on('console', (m) => { if (m.type() === 'error') problems.push(`console: ${m.text()}`); });
+  }, 120_000);
+
+  afterAll(async () => {
+    await browser?.close();
+    await serve?.stop();
+    if (dataDir) rmSync(dataDir, { recursive: true, force: true });
+  });
+
+  it('runs a simulated run from start to the stop advice, and the record holds every reading the screen counted', async () => {
+    const { page } = browser;
+    await page.goto(serve.url);
+    await page.getByText('Service: connected').waitFor({ timeout: 20_000 });
+    await expect(page.getByTestId('demo-banner').isVisible()).resolves.toBe(true);
+
+    // Sample details before the run, saved into the record's header.
+    await page.getByLabel('Sample', { exact: true }).fill('brilliant blue FCF, 5.0 µM (demo)');
+    await page.getByLabel('Operator').fill('e2e');
+    await page.getByLabel('Temperature in °C').fill('25.0');
+    await page.getByRole('button', { name: 'Save details' }).click();
+    await page.getByText(/^Saved /).waitFor();
+
+    // Start by its shortcut, with the focus on the page, not in a field.
+    await page.locator('body').click({ position: { x: 640, y: 790 } });
+    await page.keyboard.press('s');
+    await page.getByText(/^Recording: \d+ readings/).waitFor({ timeout: 20_000 });
+    await expect.poll(async () => countIn(await page.getByTestId('drawn').textContent()), { timeout: 20_000 }).toBeGreaterThan(30);
+
+    // Mark an event with a note, by the shortcut.
+    await page.getByLabel('Note for the next mark').fill('bubble seen');
+    await page.locator('body').click({ position: { x: 640, y: 790 } });
+    await page.keyboard.press('m');
+    await page.getByText(/: bubble seen$/).waitFor({ timeout: 10_000 });
+
+    // The fitted results appear with their units and evidence.
+    await expect.poll(async () => page.getByTestId('k').textContent(), { timeout: 30_000 }).toMatch(/±/);
+    await expect(page.getByTestId('verdict').textContent()).resolves.toMatch(/Order: (first order|undecided so far)/);
+
+    // Drag across the chart from about a fifth of the way to its end: the fit window follows.
+    const over = page.locator('.chart-main .u-over');
+    const box = (await over.boundingBox())!;
+    await page.mouse.move(box.x + box.width * 0.2, box.y + box.height / 2);
+    await page.mouse.down();
+    await page.mouse.move(box.x + box.width * 0.6, box.y + box.height / 2, { steps: 5 });
+    await page.mouse.move(box.x + box.width - 1, box.y + box.height / 2, { steps: 5 });
+    await page.mouse.up();
+    await expect.poll(async () => page.getByTestId('fit-window').textContent(), { timeout: 10_000 }).toMatch(/^Fit window: \d+ s to the latest reading/);
+
+    // The advice reaches the stop, in words.
+    await page.getByTestId('advice').getByText('Far enough: stop now').waitFor({ timeout: 60_000 });
+    await expect(page.getByTestId('half-lives').textContent()).resolves.toMatch(/^\d\.\d\d$/);
+    mkdirSync(ARTIFACTS, { recursive: true });
+    await page.mouse.move(5, 790); // the cursor off the chart, so its crosshair is not in the picture
+    await page.waitForTimeout(300);
+    await page.screenshot({ path: join(ARTIFACTS, 'run-screen.png') });
+
+    await page.locator('body').click({ position: { x: 640, y: 790 } });
+    await page.keyboard.press('x');
+    await page.getByText(/^Stopped: \d+ readings recorded/).waitFor({ timeout: 20_000 });
+    // Let any last batch land, then take the count the screen shows.
+    await page.waitForTimeout(500);
+    const screenCount = countIn(await page.getByText(/^Stopped: \d+ readings recorded/).textContent());
+    expect(screenCount).toBeGreaterThan(30);
+    expect(countIn(await page.getByTestId('drawn').textContent())).toBe(screenCount);
+
+    const files = recordFiles(dataDir);
+    expect(files).toHaveLength(1);
+    const rec = readRecord(files[0]!);
+    expect(rec.readings.length).toBe(screenCount);
+    expect(JSON.stringify(rec.events)).toContain('bubble seen');
+    expect(JSON.stringify(rec.events)).toContain('brilliant blue FCF, 5.0 µM (demo)');
+    // The readings are the screen's: time runs forward, absorbance starts near the demo's A0 = 0.65.
+    for (let i = 1; i < rec.readings.length; i++) expect(rec.readings[i]![0]!).toBeGreaterThan(rec.readings[i - 1]![0]!);
+    expect(rec.readings[0]![1]!).toBeGreaterThan(0.55);
+    expect(rec.readings[0]![1]!).toBeLessThan(0.75);
+    expect(problems).toEqual([]);
+  }, 180_000);
+
+  it('switches to the linearised views and back, saying what each shows', async () => {
+    const { page } = browser;
+    const caption = page.getByTestId('view-caption');
+    await page.getByRole('tab', { name: 'ln(A − A∞) against t' }).click();
+    await expect.poll(() => caption.textContent()).toMatch(/straight line means first order/);
+    await expect(page.getByRole('tab', { name: 'ln(A − A∞) against t' }).getAttribute('aria-selected')).resolves.toBe('true');
+    await page.screenshot({ path: join(ARTIFACTS, 'run-screen-ln.png') });
+    await page.getByRole('tab', { name: '1/(A − A∞) against t' }).click();
+    await expect.poll(() => caption.textContent()).toMatch(/straight line means second order/);
+    await page.getByRole('tab', { name: 'A against t' }).click();
+    await expect.poll(() => caption.textContent()).toMatch(/^Absorbance against time/);
+    expect(problems).toEqual([]);
+  });
+});
