@@ -6,6 +6,7 @@
  * watchdog marks it 'stale' and reopens the port), and noisy lines (refused and counted).
  * The port binding is injectable so that tests run on @serialport/binding-mock.
  */
+import { existsSync } from 'node:fs';
 import { SerialPort } from 'serialport';
 import { ReadlineParser } from '@serialport/parser-readline';
 import type { ReadingSource, RejectReason, SourceCommand, SourceEvent, SourceListener, SourceStatus } from './sourceTypes';
@@ -30,6 +31,12 @@ export interface SerialSourceOptions {
   commandTimeout_ms?: number;
   assembler?: AssemblerOptions;
   now?: () => number;
+  /**
+   * Whether the port's device node is still there. An unplugged USB adapter's node vanishes
+   * (and socat removes its pty links) without the open port reporting anything. Default: the
+   * file system for absolute paths with the native binding; always true with an injected binding.
+   */
+  present?: (path: string) => boolean;
 }
 
 type Port = SerialPort;
@@ -66,9 +73,12 @@ export class SerialSource implements ReadingSource {
   private expecting = true;
   private lastReading_ms: number | null = null;
   private lastActivity_ms = 0;
+  /** The watchdog arms once the device has sent a good line: before that, silence is a slow start, not a stale feed. */
+  private heardFromDevice = false;
   private pendingGap: { from_ms: number; reason: string } | null = null;
   private watchdog: ReturnType<typeof setInterval> | null = null;
   private wake: (() => void) | null = null;
+  private readonly present: (path: string) => boolean;
 
   constructor(options: SerialSourceOptions) {
     this.path = options.path;
@@ -81,6 +91,7 @@ export class SerialSource implements ReadingSource {
     this.blankDuration_s = options.blankDuration_s ?? 5;
     this.channel = new CommandChannel(options.commandTimeout_ms ?? 2000);
     this.now = options.now ?? (() => performance.now());
+    this.present = options.present ?? (options.binding ? () => true : (p) => !p.startsWith('/') || existsSync(p));
     this.assembler = new ReadingAssembler((e) => this.fromAssembler(e), (a) => this.channel.answer(a), options.assembler);
   }
 
@@ -196,7 +207,7 @@ export class SerialSource implements ReadingSource {
     // The readline parser has no cap of its own; the protocol parser refuses overlong lines by length.
     const line = raw.length > MAX_LINE_CHARS + 2 ? raw.slice(0, MAX_LINE_CHARS + 2) + '…' : raw;
     const parsed = this.parser.parse(raw);
-    if (parsed.kind !== 'rejected' && parsed.kind !== 'empty') this.lastActivity_ms = host;
+    if (parsed.kind !== 'rejected' && parsed.kind !== 'empty') { this.lastActivity_ms = host; this.heardFromDevice = true; }
     const hadIdentity = this.assembler.identity;
     this.assembler.accept(parsed, line, host, this.parser.rejected);
     if (parsed.kind === 'identity' && hadIdentity?.serial !== parsed.identity.serial) {
@@ -221,7 +232,15 @@ export class SerialSource implements ReadingSource {
 
   private checkStale(): void {
     const port = this.port;
-    if (this.closing || this.reconnecting || !port || !this.expecting) return;
+    if (this.closing || this.reconnecting || !port) return;
+    if (!this.present(this.path)) {
+      // The device node is gone: the cable is out, whether or not the port noticed.
+      this.port = null;
+      port.close(() => undefined);
+      this.interrupted('the device node vanished (cable pulled?)');
+      return;
+    }
+    if (!this.expecting || !this.heardFromDevice) return;
     const since = this.now() - Math.max(this.lastActivity_ms, this.lastReading_ms ?? 0);
     if (since <= this.staleAfter * this.expectedInterval_s * 1000) return;
     this.status({ kind: 'stale', sinceLastReading_ms: since, detail: `no reading from ${this.path} for ${(since / 1000).toFixed(1)} s; reopening the port` });
