@@ -36,10 +36,7 @@ export const MIN_ANALYSIS_INTERVAL_MS = 50;
 export const READINGS_BATCH_MS = 50;
 
 /** IPC channel names (Electron) and the WebSocket path (web host). */
-export const CHANNELS = Object.freeze({
-  request: 'rateline:request',
-  event: 'rateline:event',
-});
+export { CHANNELS } from './channels';
 export const SOCKET_PATH = '/bridge';
 /** Query parameter and header that carry the web host's per-launch token. */
 export const TOKEN_PARAM = 'token';
