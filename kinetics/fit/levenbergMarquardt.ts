@@ -249,6 +249,9 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
         accepted = true;
         break;
       }
+      // A step already below the parameter tolerance that still cannot lower χ²: the
+      // start was at the minimum (a warm start), no need to shrink it further.
+      if (stepIsNegligible(prob, buf, m, xTol)) return { chiSquare: chi2, iterations: iter, converged: true, problem: null };
       lambda *= 10;
     }
     if (!accepted) {
@@ -277,6 +280,20 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
     if (!normalEquations(prob, buf)) return { chiSquare: chi2, iterations: iter, converged: false, problem: 'the model derivatives stopped being finite' };
   }
   return { chiSquare: chi2, iterations: maxIterations, converged: false, problem: `did not converge in ${maxIterations} iterations` };
+}
+
+/** ‖D(pTrial − p)‖ ≤ xTol (‖D p‖ + xTol), D = √diag(JᵀWJ). */
+function stepIsNegligible(prob: LmProblem, buf: LmBuffers, m: number, xTol: number): boolean {
+  let stepNorm = 0;
+  let pNorm = 0;
+  for (let j = 0; j < m; j++) {
+    const k = prob.free[j]!;
+    const d = buf.diagScale[j]!;
+    const dv = buf.pTrial[k]! - prob.p[k]!;
+    stepNorm += d * dv * dv;
+    pNorm += d * prob.p[k]! * prob.p[k]!;
+  }
+  return Math.sqrt(stepNorm) <= xTol * (Math.sqrt(pNorm) + xTol);
 }
 
 const ACCELERATION_H = 0.1;
