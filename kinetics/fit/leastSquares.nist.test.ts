@@ -46,12 +46,12 @@ describe('fitLeastSquares against NIST StRD nonlinear datasets', () => {
           expect(fit.dof).toBe(ds.x.length - 2);
           for (const q of ds.parameters) {
             const fp = fit.byName[q.name]!;
-            expect(digits(fp.value, q.certified)).toBeGreaterThanOrEqual(6);
-            // Standard errors ride on the Jacobian: analytic gives them as well as the estimates.
-            expect(digits(fp.stdErr!, q.certifiedSd)).toBeGreaterThanOrEqual(analytic ? 6 : 4);
+            // ≥ 6 digits asked; 7 kept as a margin (8 to 11 are reached)
+            expect(digits(fp.value, q.certified)).toBeGreaterThanOrEqual(7);
+            expect(digits(fp.stdErr!, q.certifiedSd)).toBeGreaterThanOrEqual(7);
           }
-          expect(digits(fit.residualSd!, ds.residualSd)).toBeGreaterThanOrEqual(6);
-          expect(digits(fit.rss, ds.residualSumOfSquares!)).toBeGreaterThanOrEqual(6);
+          expect(digits(fit.residualSd!, ds.residualSd)).toBeGreaterThanOrEqual(9);
+          expect(digits(fit.rss, ds.residualSumOfSquares!)).toBeGreaterThanOrEqual(9);
           expect(fit.chiSquare).toBeCloseTo(fit.rss, 12);
           expect(fit.warnings).toEqual([]);
         });

@@ -194,7 +194,9 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
   for (let i = 0; i < prob.n; i++) if (prob.w[i] !== 0) yScale += prob.w[i]! * prob.y[i]! * prob.y[i]!;
   const exactFit = 1e-28 * yScale;
   let lambda = 1e-3;
-  const xTol = Math.sqrt(tolerance);
+  // Parameters: relative (scaled) step ≤ 100 × tolerance; large-residual problems converge
+  // only linearly, so a loose step test would stop them a few digits short.
+  const xTol = 100 * tolerance;
   for (let iter = 1; iter <= maxIterations; iter++) {
     let freeCount = 0;
     for (let j = 0; j < m; j++) {
