@@ -5,11 +5,17 @@
 import { readFile } from 'node:fs/promises';
 import { extname } from 'node:path';
 import { parseRunCsv } from './runCsv';
+import { RunRecordError, analysisSeries, parseRunRecord } from './journalReader';
+import { looksLikeRunRecordLine } from './runRecordFormat';
 
 export interface LoadedRun {
   time_s: Float64Array;
   absorbance: Float64Array;
-  source: { path: string; format: 'csv'; delimiter: ',' | ';'; decimalComma: boolean };
+  source:
+    | { path: string; format: 'csv'; delimiter: ',' | ';'; decimalComma: boolean }
+    | { path: string; format: 'runRecord'; version: number; demo: boolean };
+  /** Something the user should be told about the file (a run record recovered after a crash), or absent. */
+  notice?: string;
 }
 
 /** Bad input a user can fix: one sentence naming the file (and line). */
@@ -31,11 +37,30 @@ async function readText(path: string): Promise<string> {
 
 export async function loadRun(path: string): Promise<LoadedRun> {
   const ext = extname(path).toLowerCase();
-  if (ext === '.jsonl') {
-    throw new RunFileError(`${path}: run records (.jsonl) are not read by this version; export the run as CSV.`);
-  }
-  const parsed = parseRunCsv(await readText(path), path);
+  const text = await readText(path);
+  // A run record by its extension or by its header line (a record renamed to .txt is still one).
+  if (ext === '.jsonl' || looksLikeRunRecordLine(text.slice(0, text.indexOf('\n') >>> 0))) return loadRunRecord(text, path);
+  const parsed = parseRunCsv(text, path);
   if (!parsed.ok) throw new RunFileError(parsed.error);
   const { time_s, absorbance, delimiter, decimalComma } = parsed.run;
   return { time_s, absorbance, source: { path, format: 'csv', delimiter, decimalComma } };
+}
+
+/** A run record (acquisition/RUN_RECORD.md): the readings from time zero on, recovered if it was cut off. */
+function loadRunRecord(text: string, path: string): LoadedRun {
+  let record;
+  try {
+    record = parseRunRecord(text, path);
+  } catch (err) {
+    if (err instanceof RunRecordError) throw new RunFileError(err.message);
+    throw err;
+  }
+  const series = analysisSeries(record);
+  const run: LoadedRun = {
+    time_s: series.time_s,
+    absorbance: series.absorbance,
+    source: { path, format: 'runRecord', version: record.header.version, demo: record.header.demo },
+  };
+  if (record.recovery.message) run.notice = record.recovery.message;
+  return run;
 }
