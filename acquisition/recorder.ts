@@ -31,6 +31,8 @@ export interface RecorderOptions {
   timeZero?: TimeZero;
   /** The wavelength written in the record's header, so that a device reading at another is recorded as a change. */
   wavelength_nm?: number | null;
+  /** The device identity written in the header, if known, so that only a different one is recorded as a change. */
+  identity?: DeviceIdentity | null;
   /** Stop after this many seconds of run time (from time zero). */
   maxRunSeconds?: number;
   /** Stop when the analyzer's advice says the run has gone far enough and settled. */
@@ -82,6 +84,7 @@ export class Recorder {
   private wavelength_nm: number | null = null;
   private status: SourceStatus | null = null;
   private identity: DeviceIdentity | null = null;
+  private readonly headerIdentity: DeviceIdentity | null;
   private rejected: Record<RejectReason, number> = emptyRejects();
   private rejectedDirtySince_ms: number | null = null;
   private gaps = 0;
@@ -102,6 +105,7 @@ export class Recorder {
     this.now = options.now_ms ?? (() => performance.now());
     this.wallClock = options.wallClock ?? (() => new Date());
     this.wavelength_nm = options.wavelength_nm ?? null;
+    this.headerIdentity = options.identity ?? null;
     this.finished = new Promise((resolve) => (this.resolveFinished = resolve));
   }
 
@@ -258,8 +262,9 @@ export class Recorder {
 
   private onIdentity(identity: DeviceIdentity): void {
     const first = this.identity === null;
+    const known = this.identity ?? this.headerIdentity;
+    if (!sameIdentity(known, identity)) this.journal.event({ ev: 'meta', h: this.h(), t: this.lastT, instrument: { identity } });
     this.identity = identity;
-    this.journal.event({ ev: 'meta', h: this.h(), t: this.lastT, instrument: { identity } });
     if (first && identity.sends === 'counts' && this.timeZero_s === null) this.askForBlank();
   }
 
@@ -343,6 +348,10 @@ export class Recorder {
   private h(): number {
     return this.journal.hostOffset_ms(this.now());
   }
+}
+
+function sameIdentity(a: DeviceIdentity | null, b: DeviceIdentity): boolean {
+  return a !== null && a.maker === b.maker && a.model === b.model && a.serial === b.serial && a.firmware === b.firmware && a.sends === b.sends;
 }
 
 function emptyRejects(): Record<RejectReason, number> {

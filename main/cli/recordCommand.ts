@@ -172,7 +172,7 @@ export async function run(argv: string[]): Promise<number> {
     ...(precision !== undefined ? { precision } : {}),
   });
   const recorder = new Recorder({
-    source, journal, analyzer, timeZero, wavelength_nm: run.wavelength_nm,
+    source, journal, analyzer, timeZero, wavelength_nm: run.wavelength_nm, identity: instrument.identity,
     ...(maxSeconds !== undefined ? { maxRunSeconds: maxSeconds } : {}),
     ...(o['until-advice'] ? { untilAdvice: true } : {}),
   });
@@ -202,7 +202,7 @@ export async function run(argv: string[]): Promise<number> {
     process.off('SIGINT', onInt);
     process.off('SIGTERM', onTerm);
   }
-  printProgress();
+  if (outcome.readings > 0) printProgress();
   return finish(out, outcome, progressMode, say);
 }
 
