@@ -44,6 +44,11 @@ export function emptyRejectCounts(): Record<RejectReason, number> {
 /** Why a token is not a number: 'malformed' (not numeric text) or 'nonFinite' (NaN, Infinity, overflow). */
 const NOT_NUMBER = { reason: 'malformed' as RejectReason };
 
+/** Why the last parseDecimal call gave NaN: 'malformed' or 'nonFinite'. */
+export function lastNumberProblem(): 'malformed' | 'nonFinite' {
+  return NOT_NUMBER.reason === 'nonFinite' ? 'nonFinite' : 'malformed';
+}
+
 /**
  * Strict decimal number: [+-]digits[.digits][(e|E)[+-]digits]. Returns the value, or
  * sets NOT_NUMBER.reason and returns NaN (the caller turns that into a rejection and

@@ -232,3 +232,29 @@ describe('serial source: running', () => {
     }
   });
 });
+
+describe('serial source: other line formats and unplug detection', () => {
+  it('reads an instrument that prints plain delimited lines (%T) and refuses commands to it', async () => {
+    bench.plug('/dev/ttyUSB0', 'A1');
+    const s = make('/dev/ttyUSB0', { delimited: { delimiter: ',', columns: { time: 0, value: 1 }, timeUnit: 's', valueUnit: 'percentT', wavelength_nm: 630 } });
+    const { readings } = record(s);
+    await s.open();
+    bench.send('/dev/ttyUSB0', ['time,%T\n', '1,50\n', '2,10\n', '3,oops\n']);
+    await until(() => readings.length === 2 && s.rejectedCounts().malformed === 1, 'readings');
+    // common practice: A = 2 − log10(%T)
+    expect(readings[0]!.absorbance).toBeCloseTo(0.30103, 5);
+    expect(readings[1]!.absorbance).toBeCloseTo(1, 12);
+    expect(await s.command({ type: 'start' })).toMatchObject({ ok: false, error: /takes no commands/ });
+  });
+
+  it("calls it 'disconnected' when the device node vanishes though the port said nothing", async () => {
+    bench.plug('/dev/ttyUSB0', 'A1');
+    let there = true;
+    const s = make('/dev/ttyUSB0', { present: () => there, staleAfterIntervals: 1000 });
+    const { statuses } = record(s);
+    await s.open();
+    there = false;
+    await until(() => statuses().includes('disconnected'), 'disconnected');
+    expect(statuses()).toContain('reconnecting');
+  });
+});

@@ -10,7 +10,8 @@ import { existsSync } from 'node:fs';
 import { SerialPort } from 'serialport';
 import { ReadlineParser } from '@serialport/parser-readline';
 import type { ReadingSource, RejectReason, SourceCommand, SourceEvent, SourceListener, SourceStatus } from './sourceTypes';
-import { LineParser, MAX_LINE_CHARS } from './lineProtocol';
+import { LineParser, MAX_LINE_CHARS, type DeviceLine } from './lineProtocol';
+import { DelimitedReader, type DelimitedConfig } from './delimitedReader';
 import { ReadingAssembler, type AssemblerOptions } from './readingAssembler';
 import { CommandChannel, type CommandResult } from './commandChannel';
 import { openFailureMessage, owningGroup, type PortListing } from './portErrors';
@@ -37,6 +38,13 @@ export interface SerialSourceOptions {
    * file system for absolute paths with the native binding; always true with an injected binding.
    */
   present?: (path: string) => boolean;
+  /** The instrument prints plain delimited lines instead of the protocol: how to read them. It then takes no commands. */
+  delimited?: DelimitedConfig;
+}
+
+interface LineReader {
+  parse(raw: string): DeviceLine;
+  readonly rejected: Record<RejectReason, number>;
 }
 
 type Port = SerialPort;
@@ -55,7 +63,8 @@ export interface PortBinding {
 export class SerialSource implements ReadingSource {
   readonly kind = 'serial' as const;
   private readonly listeners = new Set<SourceListener>();
-  private readonly parser = new LineParser();
+  private readonly parser: LineReader;
+  private readonly plainLines: boolean;
   private readonly assembler: ReadingAssembler;
   private readonly channel: CommandChannel;
   private readonly binding: PortBinding;
@@ -82,6 +91,8 @@ export class SerialSource implements ReadingSource {
 
   constructor(options: SerialSourceOptions) {
     this.path = options.path;
+    this.plainLines = options.delimited !== undefined;
+    this.parser = options.delimited ? new DelimitedReader(options.delimited) : new LineParser();
     this.baudRate = options.baudRate ?? 115200;
     this.binding = options.binding ?? SerialPort.binding;
     this.serialNumber = options.serialNumber ?? null;
@@ -126,6 +137,7 @@ export class SerialSource implements ReadingSource {
   async command(cmd: SourceCommand): Promise<CommandResult> {
     const port = this.port;
     if (cmd.type === 'setSpeed' || cmd.type === 'pause' || cmd.type === 'resume') return { ok: false, error: `a serial instrument runs in real time: "${cmd.type}" is for replayed runs` };
+    if (this.plainLines) return { ok: false, error: 'this instrument prints plain delimited lines and takes no commands; use its own controls' };
     if (!port || !port.isOpen) return { ok: false, error: `not connected to ${this.path}; wait for the reconnection` };
     const r = await this.channel.send(cmd, (line) => { port.write(line, 'latin1'); }, this.blankDuration_s);
     if (r.ok) {
@@ -199,7 +211,7 @@ export class SerialSource implements ReadingSource {
     port.on('close', (err?: Error | null) => this.onClose(port, err ?? null));
     this.status({ kind: 'connected', detail: `${path} at ${this.baudRate} baud` });
     // Ask the device who it is: its identity says whether it sends absorbance or counts.
-    void this.channel.send({ type: 'who' }, (l) => { port.write(l, 'latin1'); });
+    if (!this.plainLines) void this.channel.send({ type: 'who' }, (l) => { port.write(l, 'latin1'); });
   }
 
   private onLine(raw: string): void {
