@@ -142,6 +142,8 @@ export function createRunChart(
       last = input;
       const columns = Math.max(50, Math.round(main.bbox.width / (devicePixelRatio || 1)));
       frame = builder.build({ ...input, columns }, frame);
+      // Say what time zero is: mixing when it was set, else just the first reading.
+      main.axes[0]!.label = input.timeZero_s === null ? 't from the first reading / s (Mixed sets t = 0)' : 't after mixing / s';
       main.axes[1]!.label = input.view === 'absorbance' ? `A${input.wavelength_nm ? ` at ${input.wavelength_nm} nm` : ''}` : input.view === 'ln' ? 'ln(A − A∞)' : '1 / (A − A∞)';
       main.batch(() => {
         main.setData([frame.x, frame.inWindow, frame.outside] as uPlot.AlignedData, false);

@@ -28,11 +28,15 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
   const kinds = { simulated: radio('source', 'simulated', 'Simulated (demo)'), serial: radio('source', 'serial', 'Serial port'), replay: radio('source', 'replay', 'Recorded run') };
   const speed = h('input', { type: 'number', min: 0.1, max: 10000, step: 'any', value: 1, 'aria-label': 'Simulation speed' });
   const simRow = h('label', { class: 'field' }, 'Speed (× real time) ', speed);
-  const port = h('select', { 'aria-label': 'Serial port' });
+  // A field with suggestions rather than a closed list: a pty pair or a port the system
+  // does not enumerate can still be typed in.
+  const portList = h('datalist', { id: 'rateline-ports' });
+  const port = h('input', { type: 'text', list: 'rateline-ports', placeholder: '/dev/ttyUSB0', maxlength: 4096, 'aria-label': 'Serial port', class: 'port-input' });
+  const portsFound = h('span', { class: 'small' });
   const baud = h('select', { 'aria-label': 'Baud rate' }, ...BAUD_RATES.map((b) => h('option', { value: b, selected: b === 9600 }, String(b))));
   const refreshPorts = h('button', { type: 'button', class: 'small-button' }, 'Refresh');
   const serialRow = h('div', { class: 'field-group' },
-    h('label', { class: 'field' }, 'Port ', port, ' ', refreshPorts), h('label', { class: 'field' }, 'Baud ', baud));
+    h('label', { class: 'field' }, 'Port ', port, portList, ' ', refreshPorts), portsFound, h('label', { class: 'field' }, 'Baud ', baud));
   const record = h('select', { 'aria-label': 'Recorded run' });
   const replayRow = h('label', { class: 'field' }, 'Record ', record);
   const use = h('button', { type: 'button', class: 'small-button primary', 'data-testid': 'use-source' }, 'Use and connect');
@@ -57,7 +61,9 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
   const loadPorts = async () => {
     const r = await actions.send({ type: 'listPorts' });
     if (!r) return;
-    port.replaceChildren(...(r.ports.length ? r.ports.map((p) => h('option', { value: p.path }, p.manufacturer ? `${p.path} (${p.manufacturer})` : p.path)) : [h('option', { value: '' }, 'no ports found')]));
+    portList.replaceChildren(...r.ports.map((p) => h('option', { value: p.path }, p.manufacturer ? `${p.path} (${p.manufacturer})` : p.path)));
+    setText(portsFound, r.ports.length ? `${r.ports.length} port${r.ports.length > 1 ? 's' : ''} found; pick one or type a path.` : 'No ports found; type the path of the port.');
+    if (!port.value && r.ports[0]) port.value = r.ports[0].path;
   };
   const loadRecords = async () => {
     const r = await actions.send({ type: 'listRecords' });
@@ -74,8 +80,8 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
     const k = chosenKind();
     let source: SourceChoice;
     if (k === 'serial') {
-      if (!port.value) { store.update((d) => { addMessage(d, 'error', 'Serial port: choose a port first (Refresh lists them).'); }); return; }
-      source = { kind: 'serial', path: port.value, baud: Number(baud.value) };
+      if (!port.value.trim()) { store.update((d) => { addMessage(d, 'error', 'Serial port: type or pick the port first (Refresh lists the ones found).'); }); return; }
+      source = { kind: 'serial', path: port.value.trim(), baud: Number(baud.value) };
     } else if (k === 'replay') {
       if (!record.value) { store.update((d) => { addMessage(d, 'error', 'Recorded run: there is no record to play yet; record a run first.'); }); return; }
       source = { kind: 'replay', file: record.value };
@@ -109,6 +115,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
         synced = true;
         kinds[b.source.kind].input.checked = true;
         if (b.source.kind === 'simulated' && b.source.speed) speed.value = String(b.source.speed);
+        if (b.source.kind === 'serial') { port.value = b.source.path; baud.value = String(b.source.baud); }
         if (b.wavelength_nm !== null) wavelength.value = String(b.wavelength_nm);
         showRows();
       }
