@@ -209,16 +209,25 @@ export class BenchService {
     this.state.phase = 'connecting';
     this.changed();
     try {
+      await this.openSource();
+      this.state.phase = 'connected';
+    } catch (err) {
+      this.state.phase = 'error';
+      throw new Refusal(`connect: ${oneLine(err)}`);
+    }
+  }
+
+  /** Creates and opens the chosen source; on failure nothing is left open. */
+  private async openSource(): Promise<void> {
+    try {
       const source = await this.deps.createSource(this.state.source, this.replayPath);
       this.unsubscribe = source.on((e) => this.onSourceEvent(e));
       this.source = source;
       await source.open();
-      this.state.phase = 'connected';
     } catch (err) {
       await this.closeSource();
-      this.state.phase = 'error';
       this.state.sourceStatus = { kind: 'error', message: oneLine(err) };
-      throw new Refusal(`connect: ${oneLine(err)}`);
+      throw err;
     }
   }
 
@@ -262,6 +271,15 @@ export class BenchService {
         this.record?.event({ ev: 'warning', t: this.deviceTime(), message: e.message });
         this.warn(e.message);
         break;
+      case 'blank': {
+        const b = e.blank;
+        this.state.blankTaken = true;
+        const noise = b.noise_AU === null ? '' : `, noise ${b.noise_AU.toExponential(1)} AU`;
+        this.record?.event({ ev: 'blank', t: b.deviceTime_s, detail: `blank of ${b.points} readings at ${b.wavelength_nm} nm${noise}`, noise_AU: b.noise_AU, drift_AUperMin: b.drift_AUperMin });
+        for (const w of b.warnings) this.warn(w);
+        this.changed();
+        break;
+      }
       case 'spectrum': break; // wavelength choice from a spectrum is the screen's later work
     }
   }
@@ -286,7 +304,7 @@ export class BenchService {
     // reaction begins at the instrument's time zero, and a record plays from its start.
     const fresh = this.state.source.kind !== 'serial';
     if (fresh) await this.closeSource();
-    await this.connect();
+    else await this.connect();
     const started = new Date();
     const runId = newRunId(started);
     this.series.clear();
@@ -307,6 +325,15 @@ export class BenchService {
     this.rebuildAnalyzer();
     this.state.phase = 'running';
     this.emit({ type: 'record', path, status: 'open' });
+    // A fresh source opens only now, with the record ready, so its first reading is kept.
+    if (fresh) {
+      try {
+        await this.openSource();
+      } catch (err) {
+        await this.stopRun('error', oneLine(err));
+        throw new Refusal(`start: ${oneLine(err)}`);
+      }
+    }
     const r = await this.source!.command({ type: 'start' });
     if (!r.ok) {
       await this.stopRun('error', r.error);

@@ -20,7 +20,7 @@ export interface RecordSink {
 }
 
 export type RecordEvent =
-  | { ev: 'blank'; t: number | null; detail: string }
+  | { ev: 'blank'; t: number | null; detail: string; noise_AU?: number | null; drift_AUperMin?: number | null }
   | { ev: 'mixed'; t: number | null }
   | { ev: 'mark'; t: number | null; note: string }
   | { ev: 'meta'; t: number | null; details: SampleDetails; wavelength_nm: number | null }

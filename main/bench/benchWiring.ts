@@ -7,6 +7,7 @@ import { homedir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { readRunRecord } from '../../acquisition/journalReader';
 import { ReplaySource, timelineFromRecord } from '../../acquisition/replaySource';
+import { SerialSource } from '../../acquisition/serialSource';
 import { defaultInstrumentSettings } from '../../acquisition/simulatedInstrument';
 import { SimulatedSource } from '../../acquisition/simulatedSource';
 import type { ReadingSource } from '../../acquisition/sourceTypes';
@@ -51,15 +52,8 @@ export async function createSource(choice: SourceChoice, replayPath: string | nu
       }
       return new ReplaySource(timelineFromRecord(record), { speed: choice.speed ?? 'max', label: choice.file });
     }
-    case 'serial': {
-      // Loaded on demand: the serial source pulls in the native port binding.
-      const spec = '../../acquisition/serialSource';
-      const mod = (await import(/* @vite-ignore */ spec).catch(() => null)) as
-        | { SerialSource?: new (o: { path: string; baud: number }) => ReadingSource }
-        | null;
-      if (!mod?.SerialSource) throw new Refusal('serial: this build has no serial source yet; use the simulated instrument or a recorded run.');
-      return new mod.SerialSource({ path: choice.path, baud: choice.baud });
-    }
+    case 'serial':
+      return new SerialSource({ path: choice.path, baudRate: choice.baud });
   }
 }
 

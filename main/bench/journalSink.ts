@@ -56,7 +56,7 @@ export async function openJournalSink(o: RecordOpening, now_ms: () => number = (
     reading: (r) => journal.reading(r),
     event(e: RecordEvent) {
       switch (e.ev) {
-        case 'blank': journal.event({ ev: 'blank', h: h(), t: e.t, detail: e.detail, noise_AU: null, drift_AUperMin: null }); break;
+        case 'blank': journal.event({ ev: 'blank', h: h(), t: e.t, detail: e.detail, noise_AU: e.noise_AU ?? null, drift_AUperMin: e.drift_AUperMin ?? null }); break;
         case 'mixed': journal.event({ ev: 'mixed', h: h(), t: e.t, wall: isoWithLocalOffset(new Date()) }); break;
         case 'mark': journal.event({ ev: 'mark', h: h(), t: e.t, note: e.note }); break;
         case 'meta': journal.event({ ev: 'meta', h: h(), t: e.t, run: runMetadata(e.details, e.wavelength_nm) }); break;
