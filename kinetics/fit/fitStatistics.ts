@@ -13,7 +13,7 @@
  * same points and weights mean anything.
  */
 import type { FitProblem, FitResult, FittedParameter } from './fitTypes';
-import { evaluateJacobian, evaluateResiduals, normalEquations, type LmBuffers, type LmProblem } from './levenbergMarquardt';
+import { evaluateJacobian, evaluateResiduals, normalEquations, type LmBuffers, type LmProblem } from './linearization';
 import { invertSymmetricPositive } from './cholesky';
 import { studentTQuantile } from './studentT';
 

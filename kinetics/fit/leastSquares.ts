@@ -10,7 +10,8 @@
  * seen rather than the σ_i assumed — with Student-t intervals.
  */
 import type { FitProblem, FitResult, RobustLoss } from './fitTypes';
-import { allocateLmBuffers, evaluateResiduals, runLevenbergMarquardt, type LmProblem } from './levenbergMarquardt';
+import { runLevenbergMarquardt } from './levenbergMarquardt';
+import { allocateLmBuffers, evaluateResiduals, type LmProblem } from './linearization';
 import { defaultTuning, updateRobustWeights } from './robustWeights';
 import { assembleFitResult, failedFit } from './fitStatistics';
 
@@ -46,7 +47,11 @@ export function fitLeastSquares(problem: FitProblem): FitResult {
   const available = Math.min(problem.x.length, problem.y.length, problem.weights ? problem.weights.length : Infinity);
   if (!Number.isInteger(n) || n < 0) return failedFit(problem, `count ${problem.count} is not a whole number of points.`);
   if (n > available) {
-    warnings.push(`count ${n} is more than the ${available} points supplied; used ${available}.`);
+    warnings.push(
+      problem.count === undefined
+        ? `x, y and the weights differ in length; used the first ${available} points.`
+        : `count ${n} is more than the ${available} points supplied; used ${available}.`,
+    );
     n = available;
   }
   const baseW = new Float64Array(n);
@@ -143,5 +148,9 @@ export function fitLeastSquares(problem: FitProblem): FitResult {
   }
   if (!converged) warnings.push(`did not converge: ${problemNote ?? 'stopped early'}; try better starting values or more iterations.`);
 
-  return assembleFitResult({ problem, lm, buf, baseW, robustW, used, iterations, converged, confidence, warnings });
+  try {
+    return assembleFitResult({ problem, lm, buf, baseW, robustW, used, iterations, converged, confidence, warnings });
+  } catch (e) {
+    return failedFit(problem, `the model function failed: ${e instanceof Error ? e.message : String(e)}.`, warnings);
+  }
 }
