@@ -247,6 +247,17 @@ describe('serial source: other line formats and unplug detection', () => {
     expect(await s.command({ type: 'start' })).toMatchObject({ ok: false, error: /takes no commands/ });
   });
 
+  it('counts a runaway line without end once as overlong and reads on', async () => {
+    bench.plug('/dev/ttyUSB0', 'A1');
+    const s = make('/dev/ttyUSB0');
+    const { readings } = record(s);
+    await s.open();
+    for (let i = 0; i < 20; i++) bench.send('/dev/ttyUSB0', ['9'.repeat(10_000)]);
+    bench.send('/dev/ttyUSB0', ['\n', formatAbsorbance(1, 630, 0.5, null)]);
+    await until(() => readings.length === 1, 'the reading after the runaway line');
+    expect(s.rejectedCounts().overlong).toBe(1);
+  });
+
   it("calls it 'disconnected' when the device node vanishes though the port said nothing", async () => {
     bench.plug('/dev/ttyUSB0', 'A1');
     let there = true;

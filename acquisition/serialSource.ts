@@ -12,6 +12,7 @@ import { ReadlineParser } from '@serialport/parser-readline';
 import type { ReadingSource, RejectReason, SourceCommand, SourceEvent, SourceListener, SourceStatus } from './sourceTypes';
 import { LineParser, MAX_LINE_CHARS, type DeviceLine } from './lineProtocol';
 import { DelimitedReader, type DelimitedConfig } from './delimitedReader';
+import { LineCap } from './lineCap';
 import { ReadingAssembler, type AssemblerOptions } from './readingAssembler';
 import { CommandChannel, type CommandResult } from './commandChannel';
 import { openFailureMessage, owningGroup, type PortListing } from './portErrors';
@@ -205,7 +206,8 @@ export class SerialSource implements ReadingSource {
     this.path = path;
     this.lastActivity_ms = this.now();
     // latin1 maps every byte to one character, so binary noise reaches the parser as such and is counted.
-    const lines = port.pipe(new ReadlineParser({ delimiter: '\n', encoding: 'latin1' }));
+    // The cap bounds what the readline parser buffers when a device sends bytes without a line end.
+    const lines = port.pipe(new LineCap(MAX_LINE_CHARS + 2)).pipe(new ReadlineParser({ delimiter: '\n', encoding: 'latin1' }));
     lines.on('data', (line: string) => this.onLine(line));
     port.on('error', () => undefined); // a failed write or read surfaces as 'close' with a disconnect error
     port.on('close', (err?: Error | null) => this.onClose(port, err ?? null));
@@ -216,12 +218,10 @@ export class SerialSource implements ReadingSource {
 
   private onLine(raw: string): void {
     const host = this.now();
-    // The readline parser has no cap of its own; the protocol parser refuses overlong lines by length.
-    const line = raw.length > MAX_LINE_CHARS + 2 ? raw.slice(0, MAX_LINE_CHARS + 2) + '…' : raw;
     const parsed = this.parser.parse(raw);
     if (parsed.kind !== 'rejected' && parsed.kind !== 'empty') { this.lastActivity_ms = host; this.heardFromDevice = true; }
     const hadIdentity = this.assembler.identity;
-    this.assembler.accept(parsed, line, host, this.parser.rejected);
+    this.assembler.accept(parsed, raw, host, this.parser.rejected);
     if (parsed.kind === 'identity' && hadIdentity?.serial !== parsed.identity.serial) {
       this.status({ kind: 'connected', detail: `${this.path} at ${this.baudRate} baud`, identity: parsed.identity });
     }
