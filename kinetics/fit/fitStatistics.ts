@@ -3,7 +3,9 @@
  * Student-t intervals, goodness of fit and AICc, and the plain-language warnings.
  *
  * Covariance = (JᵀWJ)⁻¹ · χ²/dof with J at the final parameters and W the final
- * weights (robust weights included), dof = n − nFree. Parameters on a bound keep
+ * weights (robust weights included), dof = n − nFree, where n counts every usable
+ * point, also those a redescending loss set to weight 0 (as the usual M-estimation
+ * software counts them). Parameters on a bound keep
  * their row: with projection the model is not transformed, so the covariance is
  * the untransformed one, but its meaning is doubtful there and a warning says so.
  *

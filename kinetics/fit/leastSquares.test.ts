@@ -3,6 +3,7 @@ import { levenbergMarquardt } from 'ml-levenberg-marquardt';
 import { fitLeastSquares } from './leastSquares';
 import type { FitProblem } from './fitTypes';
 import { simulateRun, DEMO_RUN, absorbanceSigma, trueAbsorbance } from '../reactionModel';
+import { studentTQuantile } from './studentT';
 
 // Integrated rate laws, parameters [a0, aInf, k].
 const firstOrder = (t: number, p: Float64Array): number => p[1]! + (p[0]! - p[1]!) * Math.exp(-p[2]! * t);
@@ -136,7 +137,61 @@ describe('weights, covariance and the reported statistics', () => {
   });
 });
 
+describe('options and failure modes', () => {
+  it('intervals use Student t at the chosen confidence', () => {
+    // handbook t-table: t(0.95, 12) = 1.7823 for a 90% interval on 12 dof
+    const run = simulateRun({ ...DEMO_RUN, duration_s: 14, seed: 6 });
+    const fit = fitLeastSquares({ ...decayProblem(firstOrder, run.time_s, run.absorbance, [0.6, 0.005, 0.003]), options: { confidence: 0.9 } });
+    // 15 points, 3 free parameters: 12 dof
+    expect(fit.dof).toBe(12);
+    const k = fit.byName.k!;
+    expect((k.ci![1] - k.value) / k.stdErr!).toBeCloseTo(1.7823, 4);
+    expect(studentTQuantile(0.95, 12)).toBeCloseTo(1.7823, 4);
+    expect(fit.confidence).toBe(0.9);
+  });
+
+  it('a model that throws gives a failed fit with the reason, never an exception', () => {
+    const fit = fitLeastSquares({
+      parameters: [{ name: 'a', value: 1 }],
+      x: Float64Array.of(1, 2, 3),
+      y: Float64Array.of(1, 2, 3),
+      model: () => {
+        throw new Error('bad model');
+      },
+    });
+    expect(fit.ok).toBe(false);
+    expect(fit.warnings.join(' ')).toMatch(/model function failed: bad model/);
+  });
+
+  it('bad parameter set-ups are refused in one sentence', () => {
+    const base = { x: Float64Array.of(1, 2, 3), y: Float64Array.of(1, 2, 3), model: (t: number, p: Float64Array) => p[0]! * t };
+    expect(fitLeastSquares({ ...base, parameters: [{ name: 'a', value: NaN }] }).warnings[0]).toMatch(/finite starting value/);
+    expect(fitLeastSquares({ ...base, parameters: [{ name: 'a', value: 1, min: 2, max: 1 }] }).warnings[0]).toMatch(/admit no value/);
+    expect(fitLeastSquares({ ...base, parameters: [{ name: 'a', value: 1 }, { name: 'a', value: 2 }] }).warnings[0]).toMatch(/named twice/);
+    const outside = fitLeastSquares({ ...base, parameters: [{ name: 'a', value: 5, max: 2 }] });
+    expect(outside.warnings[0]).toMatch(/started outside its bounds/);
+    expect(outside.byName.a!.value).toBeLessThanOrEqual(2);
+  });
+});
+
 describe('robust fitting against a bubble spike', () => {
+  it('the reported covariance is the one of a weighted fit with the final robust weights', () => {
+    // consistency: IRLS at convergence is a weighted least-squares fit with weights w_i·ρ_i
+    const run = simulateRun({ ...DEMO_RUN, seed: 23 });
+    const y = Float64Array.from(run.absorbance);
+    y[200] += 0.2;
+    const robust = fitLeastSquares({ ...decayProblem(firstOrder, run.time_s, y, [0.6, 0.01, 0.003]), options: { robust: 'tukey' } });
+    const start = robust.parameters.map((p) => p.value) as [number, number, number];
+    const refit = fitLeastSquares({ ...decayProblem(firstOrder, run.time_s, y, start), weights: robust.robustWeights! });
+    expect(refit.byName.k!.value / robust.byName.k!.value).toBeCloseTo(1, 6);
+    expect(refit.chiSquare / robust.chiSquare).toBeCloseTo(1, 6);
+    // (JᵀWJ)⁻¹ alike; the scale differs only by dof: points of weight 0 still count in the
+    // robust fit's n (as in the usual M-estimation software), the refit leaves them out.
+    const unscaled = (f: typeof robust, i: number): number => f.covariance![i]! / (f.chiSquare / f.dof);
+    for (const i of [0, 4, 8, 2]) expect(unscaled(refit, i) / unscaled(robust, i)).toBeCloseTo(1, 4);
+    expect(refit.n).toBeLessThan(robust.n);
+  });
+
   it('unweighted too: the spike is caught and k stays within 1 SE of the spike-free fit', () => {
     const run = simulateRun({ ...DEMO_RUN, seed: 21 });
     const clean = fitLeastSquares(decayProblem(firstOrder, run.time_s, run.absorbance, [0.6, 0.01, 0.003]));
