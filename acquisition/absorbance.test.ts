@@ -85,6 +85,25 @@ describe('baseline check at the blank', () => {
     expect(r2.warnings).toEqual([]);
   });
 
+  it('raises the lamp warning for a steady lamp no more often than a 5% test should', () => {
+    // common practice: a two-sided t test on the slope at 95% gives about 5% false alarms
+    let alarms = 0;
+    const trials = 400;
+    for (let seed = 1; seed <= trials; seed++) {
+      const { t, s, d } = series(5, 0, 50, seed); // a 5-reading blank with σ_T = 0.001 on 50000 counts
+      if (!analyzeBlank(t, s, d, 630).check!.warmedUp) alarms++;
+    }
+    expect(alarms / trials).toBeLessThan(0.08);
+    // negative control: with a bare 2-SE rule and 3 degrees of freedom the false alarms are far more frequent
+    let naive = 0;
+    for (let seed = 1; seed <= trials; seed++) {
+      const { t, s, d } = series(5, 0, 50, seed);
+      const c = analyzeBlank(t, s, d, 630).check!;
+      if (Math.abs(c.drift_AUperMin) > 0.001 && Math.abs(c.drift_AUperMin) > 2 * c.driftStdErr_AUperMin) naive++;
+    }
+    expect(naive / trials).toBeGreaterThan(0.09);
+  });
+
   it('refuses a blank at the dark level and says when the blank is too short', () => {
     expect(analyzeBlank([0, 1], [800, 800], [800, 800], 630).problem).toMatch(/dark level/);
     expect(analyzeBlank([], [], [], 630).problem).toMatch(/no blank/);

@@ -5,6 +5,7 @@
  * and the baseline check made while the blank is read.
  */
 import { ReadingFlag } from './sourceTypes';
+import { studentTQuantile } from '../kinetics/fit/studentT';
 
 export interface CountsLimits {
   /** Detector full scale (counts); a 16-bit converter by default. */
@@ -153,8 +154,11 @@ export function analyzeBlank(
   const drift = slope * perMin;
   const driftSE = slopeSE * Math.abs(perMin);
   const noise = sd / (mean * Math.LN10);
-  // Drift counts only when it is both past the rule and clearly more than the noise could fake.
-  const warmedUp = !(Math.abs(drift) > rules.maxDrift_AUperMin && Math.abs(drift) > 2 * driftSE);
+  // Drift counts only when it is both past the rule and more than the noise could fake: the
+  // slope differs from zero at the 95% level (two-sided t test on n − 2 degrees of freedom).
+  // A short blank cannot see a slow drift, and then says nothing rather than raise a false alarm.
+  const tCrit = studentTQuantile(0.975, n - 2);
+  const warmedUp = !(Math.abs(drift) > rules.maxDrift_AUperMin && Math.abs(drift) > tCrit * driftSE);
   if (!warmedUp) warnings.push(`the blank drifts ${drift.toFixed(4)} AU/min (more than ${rules.maxDrift_AUperMin} AU/min): the lamp may not have warmed up; wait and take the blank again`);
   if (noise > rules.maxNoise_AU) warnings.push(`the blank is noisy (SD ${noise.toFixed(4)} AU, more than ${rules.maxNoise_AU} AU); check the cuvette for bubbles or smears`);
   return {
