@@ -70,6 +70,18 @@ describe('fitLeastSquares against NIST StRD nonlinear datasets', () => {
     }
   });
 
+  it('negative control: BoxBOD with χ²/n instead of χ²/(n − p) misses the certified standard deviations', () => {
+    // NIST StRD BoxBOD, certified values: 6 points, 2 parameters, so the dof matter
+    const ds = load('BoxBOD.dat');
+    const fit = fitLeastSquares(problemFor(ds, 1, true));
+    const n = ds.x.length;
+    for (const q of ds.parameters) {
+      const wrongDof = fit.byName[q.name]!.stdErr! * Math.sqrt(fit.dof / n);
+      expect(digits(wrongDof, q.certifiedSd)).toBeLessThan(1.5);
+    }
+    expect(digits(Math.sqrt(fit.chiSquare / n), ds.residualSd)).toBeLessThan(1.5);
+  });
+
   it('negative control: a wrong model (plain decay b1 exp(−b2 x)) misses the certified estimates', () => {
     // NIST StRD Misra1a, certified values
     const ds = load('Misra1a.dat');
