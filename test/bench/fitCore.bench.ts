@@ -50,7 +50,7 @@ function gc(): void {
 }
 
 function timeEach(label: string, make: () => FitProblem, repeats: number): { ms: number; iterations: number } {
-  for (let i = 0; i < 5; i++) fitLeastSquares(make()); // warm the JIT
+  for (let i = 0; i < 40; i++) fitLeastSquares(make()); // warm the JIT
   gc();
   let iterations = 0;
   const start = performance.now();
@@ -110,7 +110,7 @@ console.log(`  finite differences / analytic    ${(fd.ms / warm.ms).toFixed(1)}�
 console.log(`  robust / plain                   ${(robust.ms / warm.ms).toFixed(1)}×`);
 console.log(`  four-model refits per second     ${fitsPerSecondOfFour.toFixed(0)} (target ≥ ${1000 / (4 * WARM_TARGET_MS)})`);
 console.log(`  heap per fit, cold / warm        ${allocRatio.toFixed(2)} (target ≤ 1.5 despite ${cold.iterations} vs ${warm.iterations} iterations)`);
-console.log(`  heap per point                   ${(coldBytes / N).toFixed(0)} bytes`);
+console.log(`  heap per fit ÷ points            ${(coldBytes / N).toFixed(0)} bytes (buffers and result; not per iteration)`);
 if (sink === 42) console.log('');
 
 const failures: string[] = [];
