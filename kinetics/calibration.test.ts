@@ -175,6 +175,11 @@ describe('linear range and bad standards', () => {
     const neg = calibrate([{ concentration_M: -1e-6, absorbance: 0.1 }, { concentration_M: 2e-6, absorbance: 0.26 }]);
     expect(neg.ok).toBe(false);
     if (!neg.ok) expect(neg.error).toMatch(/negative/);
+    const below = calibrate([{ concentration_M: 1e-6, absorbance: -0.2 }, { concentration_M: 2e-6, absorbance: 0.26 }]);
+    expect(below.ok).toBe(false);
+    if (!below.ok) expect(below.error).toMatch(/^standard 1 .*absorbance is negative/);
+    // a few mAU below the blank is noise: accepted
+    expect(calibrate([{ concentration_M: 0, absorbance: -0.002 }, { concentration_M: 2e-6, absorbance: 0.26 }, { concentration_M: 4e-6, absorbance: 0.52 }]).ok).toBe(true);
     expect(calibrate([], {}).ok).toBe(false);
     expect(calibrate(demoStandards(1), { pathLength_cm: 0 }).ok).toBe(false);
   });

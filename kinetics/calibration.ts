@@ -21,6 +21,9 @@ import { fitLeastSquares } from './fit/leastSquares';
 import { linearFit, type LinearFitResult } from './fit/linearFit';
 import { studentTCdf } from './fit/studentT';
 
+/** Below this a standard's absorbance is a wrong blank or a mix-up, not noise. */
+const NEGATIVE_LIMIT_AU = -0.05;
+
 export interface CalibrationStandard {
   concentration_M: number;
   absorbance: number;
@@ -85,6 +88,10 @@ export function calibrate(standards: readonly CalibrationStandard[], options: Ca
       return { ok: false, error: `${where}: a value is missing or not a number; correct it or remove the standard.` };
     }
     if (s.concentration_M < 0) return { ok: false, error: `${where}: the concentration is negative; correct it or remove the standard.` };
+    // Blank noise can leave a low standard a few mAU below zero, never tenths of an AU.
+    if (s.absorbance < NEGATIVE_LIMIT_AU) {
+      return { ok: false, error: `${where}: the absorbance is negative, far below the blank; re-measure the blank or remove the standard.` };
+    }
   }
   const distinct = new Set(standards.map((s) => s.concentration_M)).size;
   if (distinct < 2) {
