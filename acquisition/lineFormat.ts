@@ -85,6 +85,7 @@ export function commandVerb(cmd: DeviceCommand): string {
     case 'takeBlank': return 'blank';
     case 'setWavelength': return 'wl';
     case 'setInterval': return 'every';
+    case 'scan': return 'scan';
   }
 }
 
@@ -130,6 +131,7 @@ export function parseCommandLine(raw: string): ParsedCommand {
     case 'start': return { ok: true, seq, command: { type: 'start' }, blankDuration_s: null };
     case 'stop': return { ok: true, seq, command: { type: 'stop' }, blankDuration_s: null };
     case 'who': return { ok: true, seq, command: { type: 'who' }, blankDuration_s: null };
+    case 'scan': return { ok: true, seq, command: { type: 'scan' }, blankDuration_s: null };
     case 'blank':
       if (parts.length > 3 && !(arg > 0 && arg <= 600)) return bad('blank duration out of range', seq, verb);
       return { ok: true, seq, command: { type: 'takeBlank' }, blankDuration_s: parts.length > 3 ? arg : null };

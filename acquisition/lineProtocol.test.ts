@@ -163,6 +163,7 @@ describe('commands', () => {
     expect(parseCommandLine(formatCommand(4, { type: 'takeBlank' }, 3))).toMatchObject({ ok: true, command: { type: 'takeBlank' }, blankDuration_s: 3 });
     expect(parseCommandLine(formatCommand(5, { type: 'setWavelength', wavelength_nm: 629.5 }))).toMatchObject({ ok: true, command: { wavelength_nm: 629.5 } });
     expect(parseCommandLine(formatCommand(6, { type: 'setInterval', interval_s: 0.5 }))).toMatchObject({ ok: true, command: { interval_s: 0.5 } });
+    expect(parseCommandLine(formatCommand(10, { type: 'scan' }))).toMatchObject({ ok: true, command: { type: 'scan' } });
     expect(parseCommandLine(formatCommand(7, { type: 'setWavelength', wavelength_nm: 5000 }))).toMatchObject({ ok: false, seq: 7, reason: 'wavelength out of range' });
     expect(parseCommandLine('do 8 start ^0000\n')).toMatchObject({ ok: false, reason: 'checksum' });
     expect(parseCommandLine(sealLine('do 9 dance'))).toMatchObject({ ok: false, seq: 9, reason: 'unknown command' });

@@ -79,6 +79,7 @@ export class SimulatedInstrument {
       case 'stop': this.running = false; break;
       case 'setWavelength': this.wavelength_nm = c.wavelength_nm; break;
       case 'setInterval': this.interval_s = c.interval_s; break;
+      case 'scan': this.scanRequested = true; break;
       case 'takeBlank':
         // An absorbance device zeroes itself; a counts device sends the blank's counts for the duration.
         if (this.settings.sends === 'counts') this.blankRequested_s = p.blankDuration_s ?? 5;
@@ -86,11 +87,6 @@ export class SimulatedInstrument {
     }
     out.unshift(formatAck(p.seq, commandVerb(c)));
     return out;
-  }
-
-  /** Asks for one spectrum frame with the next reading (not a protocol verb: the emulator's own option). */
-  requestScan(): void {
-    this.scanRequested = true;
   }
 
   /** True absorbance of the sample at this moment and wavelength: the band shape times the reaction's signal. */

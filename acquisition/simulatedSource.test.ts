@@ -109,3 +109,22 @@ describe('simulated source', () => {
     expect(s2.events.some((e) => e.type === 'warning')).toBe(false);
   });
 });
+
+describe('simulated source: spectrum for the wavelength choice', () => {
+  it('sends a frame on scan whose absorbance maximum is the band centre', async () => {
+    const { frameMaximum } = await import('./wavelengthChoice');
+    const src = new SimulatedSource({ instrument: defaultInstrumentSettings(reaction, { sigmaT: 0, bandCentre_nm: 628.6 }), speed: 100 });
+    const { events } = collect(src);
+    await src.open();
+    expect(await src.command({ type: 'scan' })).toEqual({ ok: true });
+    const t0 = Date.now();
+    while (!events.some((e) => e.type === 'spectrum') && Date.now() - t0 < 2000) await new Promise((r) => setTimeout(r, 5));
+    await src.close();
+    const frame = events.find((e) => e.type === 'spectrum');
+    if (frame?.type !== 'spectrum') throw new Error('no spectrum frame');
+    expect(frame.frame.wavelengths_nm.length).toBe(131);
+    // analytic reference: the instrument's band is a Gaussian centred at 628.6 nm (noise off); 2 nm pixels, written to 1e-4 AU
+    const peak = frameMaximum(frame.frame);
+    expect(peak.ok && Math.abs(peak.wavelength_nm - 628.6)).toBeLessThan(0.1);
+  });
+});

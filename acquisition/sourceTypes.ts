@@ -118,6 +118,8 @@ export type SourceCommand =
   | { type: 'setWavelength'; wavelength_nm: number }
   | { type: 'takeBlank' }
   | { type: 'setInterval'; interval_s: number }
+  /** Ask the device for one full-spectrum frame (to choose the wavelength). */
+  | { type: 'scan' }
   /** Replay only. */
   | { type: 'setSpeed'; speed: number | 'max' }
   | { type: 'pause' }
