@@ -1,4 +1,4 @@
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
@@ -7,6 +7,7 @@ import { DEMO_RUN, simulateRun } from '../kinetics/reactionModel';
 import { demoHeader } from '../test/fixtures/demoRecordHeader';
 import { Journal } from './journal';
 import { readRunRecord, type RunRecord } from './journalReader';
+import { replayFromFile } from './replayFile';
 import { ReplaySource, timelineFromRecord, timelineFromSeries } from './replaySource';
 import type { RunEvent } from './runRecordFormat';
 import type { Reading, SourceEvent } from './sourceTypes';
@@ -139,5 +140,28 @@ describe('replay of a run record', () => {
     expect(await source.command({ type: 'takeBlank' })).toEqual({ ok: false, error: 'a recorded run cannot take a blank; that needs a live instrument.' });
     expect(() => new ReplaySource(timelineFromRecord(rec), { speed: Number.NaN })).toThrow(/not allowed/);
     await source.close();
+  });
+});
+
+describe('replay of a file', () => {
+  it('opens a record with its events and a CSV run through loadRun', async () => {
+    const rec = demoRecord(1, 30);
+    const fromRecord = await replayFromFile(rec.path, { speed: 'max' });
+    const a = collect(fromRecord);
+    await fromRecord.open();
+    await a.ended;
+    expect(a.readings).toHaveLength(31);
+    expect(a.recorded.map((e) => e.ev)).toContain('mixed');
+    expect(fromRecord.recordedTimeZero_s).toBe(0);
+
+    const csv = join(dir, 'run.csv');
+    writeFileSync(csv, 'time_s;absorbance\n0;0,65\n1;0,64\n2;0,63\n');
+    const fromCsv = await replayFromFile(csv, { speed: 'max' });
+    const b = collect(fromCsv);
+    await fromCsv.open();
+    await b.ended;
+    expect(b.readings.map((r) => r.absorbance)).toEqual([0.65, 0.64, 0.63]);
+    expect(fromCsv.recordedTimeZero_s).toBeNull();
+    await expect(replayFromFile(join(dir, 'none.csv'))).rejects.toThrow(/no such file/);
   });
 });
