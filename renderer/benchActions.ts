@@ -30,7 +30,15 @@ export function benchActions(bridge: RatelineBridge, store: Store): BenchActions
         d.busy = false;
         if (!reply.ok) addMessage(d, 'error', reply.error);
       });
-      if (!reply.ok) return null;
+      if (!reply.ok) {
+        // A refused request may still have moved the bench (a port that failed to open):
+        // fetch its state so the screen shows what is, not what was hoped for.
+        if (request.type !== 'getState') {
+          const fresh = await bridge.request({ type: 'getState' }).catch(() => null);
+          if (fresh?.ok) applyEvent(store, { type: 'state', state: fresh.value }, performance.now());
+        }
+        return null;
+      }
       const v = reply.value as unknown;
       const state = isBenchState(v) ? v : typeof v === 'object' && v !== null && 'state' in v && isBenchState((v as { state: unknown }).state) ? (v as { state: BenchState }).state : null;
       if (state) applyEvent(store, { type: 'state', state }, performance.now());

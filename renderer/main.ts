@@ -54,9 +54,9 @@ const banner = createDemoBanner();
 const messages = createMessages((id) => store.update((d) => { d.messages = d.messages.filter((m) => m.id !== id); }));
 const source = createSourcePanel(store, actions);
 const sample = createSamplePanel(store, actions);
-const progress = createProgressPanel();
+const progress = createProgressPanel(actions);
 const results = createResultsPanel();
-const marks = createMarksPanel();
+const marks = createMarksPanel(store, actions);
 let redraw = (): void => {};
 const chart = createChartArea(store, actions, () => redraw());
 

@@ -17,7 +17,7 @@ export class RunSeries {
   /** Readings the screen never received (a batch that started past the end). */
   missed = 0;
   /** Host time (ms) and run time (s) of the last two batches, for the run-time-per-wall-second ratio. */
-  private arrivals: { wall_ms: number; run_s: number }[] = [];
+  private arrivals: { wall_ms: number; run_s: number; count: number }[] = [];
 
   constructor(capacity = 1024) {
     this.time_s = new Float64Array(capacity);
@@ -62,7 +62,7 @@ export class RunSeries {
       this.flags[k] = batch.flags[i]! & 0xff;
     }
     if (wall_ms !== undefined) {
-      this.arrivals.push({ wall_ms, run_s: this.time_s[this.count - 1]! });
+      this.arrivals.push({ wall_ms, run_s: this.time_s[this.count - 1]!, count: this.count });
       if (this.arrivals.length > 40) this.arrivals.shift();
     }
     return add;
@@ -76,6 +76,16 @@ export class RunSeries {
     const wall_s = (last.wall_ms - first.wall_ms) / 1000;
     if (wall_s < 0.2) return null;
     return (last.run_s - first.run_s) / wall_s;
+  }
+
+  /** Readings arriving per wall-clock second over the recent batches, or null. */
+  readingsPerWallSecond(): number | null {
+    const a = this.arrivals;
+    if (a.length < 2) return null;
+    const first = a[0]!, last = a[a.length - 1]!;
+    const wall_s = (last.wall_ms - first.wall_ms) / 1000;
+    if (wall_s < 0.5) return null;
+    return (last.count - first.count) / wall_s;
   }
 
   lastTime_s(): number | null {

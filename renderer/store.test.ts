@@ -68,5 +68,6 @@ describe('the screen store', () => {
     // 50 readings of 1 s each per wall second: a 50× simulation.
     for (let k = 0; k < 10; k++) applyEvent(store, batch('r1', k * 5, 5), k * 100);
     expect(store.get().series.runSecondsPerWallSecond()).toBeCloseTo(45 / 0.9, 6);
+    expect(store.get().series.readingsPerWallSecond()).toBeCloseTo(45 / 0.9, 6);
   });
 });

@@ -81,7 +81,7 @@ export function phaseWords(state: ScreenState): string {
   if (!state.bench) return 'Connecting to the bench service…';
   switch (state.bench.phase) {
     case 'idle': return 'Ready: not connected to an instrument';
-    case 'connecting': return 'Connecting to the instrument…';
+    case 'connecting': return state.sourceStatus?.kind === 'error' ? 'Instrument not connected: see the source panel' : 'Connecting to the instrument…';
     case 'connected': return 'Instrument connected: ready to start';
     case 'running': return `Recording: ${state.pointCount} readings`;
     case 'stopped': return `Stopped: ${state.pointCount} readings recorded`;

@@ -4,6 +4,7 @@
  * large numeral states; the advice headline is text, its colour only a second cue.
  */
 import { adviceWords, finishWords } from '../adviceText';
+import type { BenchActions } from '../benchActions';
 import { h, setAttr, setHidden, setText } from '../elements';
 import { formatPercent } from '../numberFormat';
 import type { ScreenState } from '../store';
@@ -13,7 +14,17 @@ export interface ProgressPanel {
   render(state: ScreenState): void;
 }
 
-export function createProgressPanel(): ProgressPanel {
+export function createProgressPanel(actions: BenchActions): ProgressPanel {
+  // The stopping rule is the user's to set: how far (half-lives) and how precise (k's 95 % CI).
+  const goalInput = h('input', { type: 'number', min: 0.5, max: 10, step: 0.5, value: 3, 'aria-label': 'Target in half-lives' });
+  const precisionInput = h('input', { type: 'number', min: 0.1, max: 50, step: 0.5, value: 5, 'aria-label': 'Precision of k in percent' });
+  const apply = h('button', { type: 'button', class: 'small-button' }, 'Apply');
+  apply.addEventListener('click', () => void actions.send({
+    type: 'setAnalysisOptions',
+    options: { targetHalfLives: Number(goalInput.value), precision: Number(precisionInput.value) / 100 },
+  }));
+  const rule = h('div', { class: 'stop-rule small' },
+    h('label', {}, 'Stop at ', goalInput, ' half-lives'), h('label', {}, ' with k to ±', precisionInput, ' %'), ' ', apply);
   const numeral = h('span', { class: 'big-number', 'data-testid': 'half-lives' }, '—');
   const target = h('span', { class: 'big-unit' }, 'of 3 half-lives');
   const fill = h('div', { class: 'progress-fill' });
@@ -28,11 +39,18 @@ export function createProgressPanel(): ProgressPanel {
   const element = h('section', { class: 'panel progress', 'aria-label': 'Progress and advice' },
     h('h2', {}, 'Progress'),
     h('p', { class: 'big' }, numeral, ' ', target),
-    bar, converted, finish, advice);
+    bar, converted, finish, advice, rule);
+  let synced = false;
 
   return {
     element,
     render(state) {
+      const o = state.bench?.analysisOptions;
+      if (o && !synced) {
+        synced = true;
+        goalInput.value = String(o.targetHalfLives);
+        precisionInput.value = String(+(o.precision * 100).toFixed(2));
+      }
       const a = state.analysis;
       const running = state.bench?.phase === 'running';
       const goal = a?.targetHalfLives ?? state.bench?.analysisOptions.targetHalfLives ?? 3;

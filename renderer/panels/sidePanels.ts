@@ -3,8 +3,9 @@
  * the list of marks, and the messages line where refused requests and warnings
  * are said in one sentence each.
  */
+import type { BenchActions } from '../benchActions';
 import { h, setHidden, setText } from '../elements';
-import type { ScreenState } from '../store';
+import { addMessage, type ScreenState, type Store } from '../store';
 
 export function createSafetyNote(): HTMLElement {
   return h('section', { class: 'panel safety', 'aria-label': 'Safety' },
@@ -28,11 +29,18 @@ export function createDemoBanner(): Renderable {
   };
 }
 
-export function createMarksPanel(): Renderable {
+export function createMarksPanel(store: Store, actions: BenchActions): Renderable {
   const list = h('ol', { class: 'marks' });
   const record = h('p', { class: 'small mono', 'data-testid': 'record-path' });
+  const exportCsv = h('button', { type: 'button', class: 'small-button' }, 'Export CSV');
+  const openRecord = h('button', { type: 'button', class: 'small-button' }, 'Open a record…');
+  exportCsv.addEventListener('click', async () => {
+    const r = await actions.send({ type: 'saveExport', format: 'csv' });
+    if (r?.path) store.update((d) => addMessage(d, 'info', `Exported the run as CSV to ${r.path}`));
+  });
+  openRecord.addEventListener('click', () => void actions.send({ type: 'openRecord' }));
   const element = h('section', { class: 'panel marks-panel', 'aria-label': 'Marks and record' },
-    h('h2', {}, 'Marks and record'), list, record);
+    h('h2', {}, 'Marks and record'), list, record, h('div', { class: 'button-row' }, exportCsv, openRecord));
   let shown: ScreenState['marks'] | null = null;
   return {
     element,
@@ -44,6 +52,9 @@ export function createMarksPanel(): Renderable {
           ? state.marks.map((m) => h('li', {}, `${m.at_s === null ? 'time not known' : `t = ${(m.at_s - zero).toFixed(1)} s`}${m.note ? `: ${m.note}` : ''}`))
           : [h('li', { class: 'small' }, 'No marks yet (M marks the moment, with the note typed beside the button).')]));
       }
+      exportCsv.disabled = state.pointCount === 0 || state.busy;
+      // A native open dialog exists only in the desktop app; the web host plays records from the runs folder.
+      setHidden(openRecord, state.bench?.host !== 'electron');
       const path = state.recordPath ?? state.bench?.recordPath ?? null;
       setText(record, path ? `Record${state.recordOpen ? ' (being written)' : ''}: ${path}` : 'No run record yet.');
     },

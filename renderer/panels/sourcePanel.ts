@@ -48,6 +48,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
   const setWl = h('button', { type: 'button', class: 'small-button' }, 'Set');
   const blank = h('button', { type: 'button', class: 'small-button' }, 'Take blank');
   const blankState = h('span', { class: 'small' });
+  const blankHint = h('p', { class: 'advice-early', role: 'note' });
   const rejectList = h('ul', { class: 'rejects', 'data-testid': 'rejects' });
   const lastReject = h('p', { class: 'small mono' });
 
@@ -102,7 +103,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
     h('div', { class: 'button-row' }, use, disconnect),
     sourceLabel, status, rate,
     h('div', { class: 'field-group' }, h('label', { class: 'field' }, 'Wavelength / nm ', wavelength, ' ', setWl)),
-    h('div', { class: 'button-row' }, blank, blankState),
+    h('div', { class: 'button-row' }, blank, blankState), blankHint,
     h('h3', {}, 'Lines turned away'), rejectList, lastReject);
 
   let synced = false;
@@ -121,8 +122,13 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
       }
       setText(sourceLabel, b ? `Now: ${b.sourceLabel}${b.demo && !/demo/i.test(b.sourceLabel) ? ' (demo data)' : ''}` : '');
       setText(status, statusWords(state));
-      const r = b?.readingRate_perSecond;
+      // Counted on the screen from the batches as they arrive, so it is live; the service's
+      // figure rides on its state messages, which come only when something changes.
+      const r = b?.phase === 'running' ? state.series.readingsPerWallSecond() ?? b.readingRate_perSecond : null;
       setText(rate, `Reading rate: ${r == null ? '—' : `${r.toFixed(r < 10 ? 2 : 0)} per second`}`);
+      const counts = state.sourceStatus?.kind === 'connected' && state.sourceStatus.identity?.sends === 'counts';
+      setText(blankHint, counts && !b?.blankTaken ? 'This instrument sends raw detector counts: fill the cuvette with the solvent and take a blank before starting.' : '');
+      setHidden(blankHint, !(counts && !b?.blankTaken));
       setText(blankState, b?.blankTaken ? 'Blank taken' : 'No blank taken yet');
       const running = b?.phase === 'running';
       use.disabled = running || state.busy;

@@ -125,6 +125,35 @@ describe('run screen against the real bench service', () => {
     expect(problems).toEqual([]);
   }, 180_000);
 
+  it('exports the run as CSV with every reading, and says so', async () => {
+    const { page } = browser;
+    const count = countIn(await page.getByTestId('drawn').textContent());
+    await page.getByRole('button', { name: 'Export CSV' }).click();
+    const msg = page.locator('.message.info');
+    await msg.waitFor({ timeout: 10_000 });
+    const path = /to (\/.+\.csv)/.exec((await msg.textContent()) ?? '')?.[1];
+    expect(path).toBeTruthy();
+    const rows = readFileSync(path!, 'utf8').split('\n').filter((l) => /^-?\d/.test(l));
+    expect(rows.length).toBe(count);
+  });
+
+  it('refuses a port that is not there in one sentence, and keeps what was recorded', async () => {
+    const { page } = browser;
+    const before = countIn(await page.getByTestId('drawn').textContent());
+    await page.getByRole('radio', { name: 'Serial port' }).check();
+    await page.getByRole('combobox', { name: 'Serial port' }).fill('/nonexistent/rateline-port');
+    await page.getByTestId('use-source').click();
+    const err = page.locator('.message.error').last();
+    await err.waitFor({ timeout: 20_000 });
+    const text = (await err.textContent()) ?? '';
+    expect(text).toContain('/nonexistent/rateline-port');
+    expect(text).not.toMatch(/\n\s+at /); // no stack trace
+    await page.screenshot({ path: join(ARTIFACTS, 'refused-port.png') });
+    expect(countIn(await page.getByTestId('drawn').textContent())).toBe(before);
+    expect(recordFiles(dataDir)).toHaveLength(1);
+    await page.getByRole('radio', { name: 'Simulated (demo)' }).check();
+  });
+
   it('switches to the linearised views and back, saying what each shows', async () => {
     const { page } = browser;
     const caption = page.getByTestId('view-caption');
