@@ -5,8 +5,8 @@
  *    (Burnham & Anderson, model selection by information criteria);
  *  - a runs test on the signs of the best model's residuals (a wrong curve leaves long
  *    runs of one sign).
- * The verdict stays `undecided` until the best order's fit has covered one half-life
- * (50% converted), since orders look alike at low conversion (common practice), and
+ * The verdict stays `undecided` until one half-life (50% converted) is covered by the
+ * account of every integer order's fit (the least of their fractions converted), since orders look alike at low conversion (common practice), and
  * then until its Akaike weight is at least 0.95 and the runs test does not reject it
  * (p ≥ 0.05).
  */
@@ -46,7 +46,10 @@ export function orderVerdict(e: EvidenceByOrder): Verdict {
   for (let i = 1; i < 3; i++) if ((w[i] as number) > (w[best] as number)) best = i;
   const order = ORDERS[best];
   const wBest = w[best] as number;
-  const f = e[order].fractionConverted;
+  // Covered only when every order agrees: a wrong curve can misplace A∞ and so overstate
+  // the conversion (first order fitted to early second-order data puts A∞ too high).
+  const fs = ORDERS.map((o) => e[o].fractionConverted);
+  const f = fs.some((x) => x === null) ? null : Math.min(...(fs as number[]));
   const pct = (x: number): string => `${(100 * x).toFixed(0)}%`;
   if (f === null || f < VERDICT_MIN_FRACTION) {
     return {

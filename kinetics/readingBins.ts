@@ -10,7 +10,7 @@
  */
 import type { FitSeries } from './models/modelTypes';
 
-export const MAX_BINS = 512;
+export const MAX_BINS = 256;
 /** Readings per bin when binning starts; doubles at each pairwise merge. */
 export const FIRST_BIN_READINGS = 8;
 

@@ -8,30 +8,32 @@
  *   at most REFIT_CAP readings. Never the wall clock: the same data give the same
  *   result on every machine and at every replay speed.
  * - Each refit starts from the previous answer (warm start).
- * - Once the unbinned tail passes TAIL_MAX readings, its older part is reduced into
- *   bins of sufficient statistics (readingBins.ts), so a refit costs O(bins + tail).
+ * - At a refit, once the unbinned tail passes TAIL_MAX readings, all but the newest
+ *   TAIL_KEEP are screened against the last fit and reduced into bins of sufficient
+ *   statistics (readingBins.ts), so a refit costs O(bins + TAIL_MAX) at any length.
  * - Robust: readings more than OUTLIER_Z robust standard deviations off the best fit are
  *   left out and reported (feed indices); one screen for all models, so their AICc
  *   values stay comparable.
  */
 import type { AnalysisResult, AnalyzerOptions, ModelName, RunAnalyzerLike } from './analysisTypes';
 import type { FitSeries, ModelFit } from './models/modelTypes';
-import { ReadingBins } from './readingBins';
+import { MAX_BINS, ReadingBins } from './readingBins';
 import { absorbanceSigma } from './reactionModel';
 import { fitZeroOrder, zeroOrderLaw } from './models/zeroOrder';
 import { firstOrderLaw, fitFirstOrder } from './models/firstOrder';
 import { fitSecondOrder, secondOrderLaw } from './models/secondOrder';
 import { fitNthOrder, nthOrderLaw } from './models/nthOrder';
 import { binMean } from './models/fitStatistics';
-import { K, ORDER } from './models/modelTypes';
+import { A0, K, ORDER } from './models/modelTypes';
 import { buildReport, emptyReport, type ReportInput } from './analysisReport';
 import { StopAdvisor } from './stopAdvice';
 
 export const REFIT_GROWTH = 0.05;
-export const REFIT_CAP = 2048;
+export const REFIT_CAP = 4096;
 export const FIRST_REFIT_AT = 6;
-export const TAIL_MAX = 1536;
-export const TAIL_KEEP = 512;
+/** Unbinned readings allowed before the older ones are binned, and how many stay unbinned. */
+export const TAIL_MAX = 768;
+export const TAIL_KEEP = 256;
 export const OUTLIER_Z = 5;
 /** Screening needs enough tail readings for a robust scale. */
 const OUTLIER_MIN_TAIL = 20;
@@ -47,10 +49,14 @@ export class RunAnalyzer implements RunAnalyzerLike {
   private winFirst = -1;
   private winCount = 0;
   private origin_s = 0;
+  /** Largest |signal| in the window so far (sets the lower bound of A∞). */
+  private maxSignal = 0;
   /** Raw index up to which window readings have gone into bins (or been left out). */
   private binnedTo = 0;
   private bins = new ReadingBins();
   private binnedOutliers: number[] = [];
+  /** The best fit of the last refit, to screen readings before they are binned. */
+  private lastBest: ModelFit | null = null;
   private series: FitSeries;
   private nextRefitAt = FIRST_REFIT_AT;
   private refittedAt = 0;
@@ -73,11 +79,14 @@ export class RunAnalyzer implements RunAnalyzerLike {
       sigmaT: options.sigmaT ?? 0.001,
       robust: options.robust ?? true,
     };
-    this.series = allocSeries(TAIL_MAX + REFIT_CAP + 2 * 512 + 16);
+    this.series = allocSeries(TAIL_MAX + 2 * MAX_BINS + 16);
     this.cached = emptyReport(this.opts, 'gathering readings');
   }
 
   get count(): number { return this.n; }
+
+  /** Bins of older readings in use now (0 until the tail first passes TAIL_MAX). */
+  get binCount(): number { return this.bins.count; }
 
   add(time_s: number, absorbance: number): void {
     if (!Number.isFinite(time_s) || !Number.isFinite(absorbance)) { this.rejectedNonFinite++; return; }
@@ -94,6 +103,7 @@ export class RunAnalyzer implements RunAnalyzerLike {
       this.origin_s = from_s ?? time_s;
     }
     this.winCount++;
+    if (Math.abs(absorbance) > this.maxSignal) this.maxSignal = Math.abs(absorbance);
     if (this.winCount >= this.nextRefitAt) {
       this.refit();
       this.nextRefitAt = this.winCount + Math.min(REFIT_CAP, Math.max(1, Math.ceil(REFIT_GROWTH * this.winCount)));
@@ -142,7 +152,7 @@ export class RunAnalyzer implements RunAnalyzerLike {
   }
 
   private buildSeries(): void {
-    const need = 2 * 512 + (this.winFirst + this.winCount - this.binnedTo) + 1;
+    const need = 2 * MAX_BINS + (this.winFirst + this.winCount - this.binnedTo) + 1;
     if (this.series.tau_s.length < need) this.series = allocSeries(Math.ceil(need * 1.5));
     const s = this.series;
     const nb = this.bins.writeTo(s);
@@ -163,10 +173,8 @@ export class RunAnalyzer implements RunAnalyzerLike {
 
   private fitAll(): Record<ModelName, ModelFit> {
     const s = this.series;
-    let yMax = 0.1;
-    for (let i = 0; i < s.count; i++) yMax = Math.max(yMax, Math.abs(s.y[i]));
-    // "Not far below the blank": A∞ may sit at most 5% of the signal under zero.
-    const aInfMin = -0.05 * yMax;
+    // "Not far below the blank": A∞ may sit at most 5% of the largest signal under zero.
+    const aInfMin = -0.05 * Math.max(0.1, this.maxSignal);
     const base = { fixedAInf: this.opts.fixedAInf, aInfMin };
     const zero = fitZeroOrder(s, base);
     const first = fitFirstOrder(s, { ...base, previous: this.previous.first });
@@ -177,46 +185,65 @@ export class RunAnalyzer implements RunAnalyzerLike {
       secondStart[K] = first.params[K] / (Math.LN2 * Math.max(first.params[1] - first.params[2], 1e-9));
     }
     const second = fitSecondOrder(s, { ...base, previous: secondStart });
-    let nthStart = this.previous.nth;
-    if (!nthStart || !nthStart.every(Number.isFinite)) {
-      const from = second.ok && second.aicc < first.aicc ? second : first;
-      nthStart = new Float64Array(4);
-      nthStart.set(from.params);
-      nthStart[ORDER] = from === second ? 2 : 1.01;
+    // n-th order: warm start, else from the best integer order (n = 0.05, 1.01 or 2);
+    // if that fails or collapses, the other integer starts, keeping the lowest χ².
+    const starts: Float64Array[] = [];
+    if (this.previous.nth) starts.push(this.previous.nth);
+    const integer = [zero, first, second].filter((f) => f.ok).sort((a, b) => a.aicc - b.aicc);
+    for (const f of integer) {
+      const st = new Float64Array(4);
+      st.set(f.params);
+      st[ORDER] = f.model === 'zero' ? 0.05 : f.model === 'first' ? 1.01 : 2;
+      starts.push(st);
     }
-    const nth = fitNthOrder(s, { ...base, previous: nthStart });
+    if (starts.length === 0) starts.push(Float64Array.from([0, 0, 0, 1.01]));
+    let nth = fitNthOrder(s, { ...base, previous: starts[0] });
+    for (let j = 1; j < starts.length && !(nth.ok && nth.free[A0]); j++) {
+      const alt = fitNthOrder(s, { ...base, previous: starts[j] });
+      if (alt.ok && (!nth.ok || alt.chiSquare < nth.chiSquare)) nth = alt;
+    }
     return { zero, first, second, nth };
   }
 
-  /** Flags tail readings far off the best fit; true when any flag changed. */
-  private screenOutliers(fits: Record<ModelName, ModelFit>): boolean {
-    const end = this.winFirst + this.winCount;
-    const tail = end - this.binnedTo;
-    if (!this.opts.robust || tail < OUTLIER_MIN_TAIL) return false;
+  private bestFit(fits: Record<ModelName, ModelFit>): ModelFit | null {
     let best: ModelFit | null = null;
     for (const f of Object.values(fits)) if (f.ok && (!best || f.aicc < best.aicc)) best = f;
-    if (!best) return false;
+    return best;
+  }
+
+  /**
+   * Flags readings [from, to) lying more than OUTLIER_Z robust standard deviations off the
+   * fit (scale: 1.4826 × median |weighted residual|, the MAD about zero); true when any flag changed.
+   */
+  private screenOutliers(best: ModelFit | null, from: number, to: number): boolean {
+    const count = to - from;
+    if (!this.opts.robust || !best || count < OUTLIER_MIN_TAIL) return false;
     const law = LAWS[best.model];
-    const z = new Float64Array(tail);
-    for (let i = this.binnedTo; i < end; i++) {
+    const z = new Float64Array(count);
+    for (let i = from; i < to; i++) {
       const y = this.signal[i];
-      z[i - this.binnedTo] = (y - binMean(law, this.time[i] - this.origin_s, 0, best.params)) * Math.sqrt(this.weightOf(y));
+      z[i - from] = (y - binMean(law, this.time[i] - this.origin_s, 0, best.params)) * Math.sqrt(this.weightOf(y));
     }
     const abs = Float64Array.from(z, Math.abs).sort();
-    const scale = 1.4826 * abs[Math.floor(tail / 2)]; // MAD about zero: residuals of a fit centre on 0
+    const scale = 1.4826 * abs[Math.floor(count / 2)];
     if (!(scale > 0)) return false;
     let changed = false;
-    for (let i = this.binnedTo; i < end; i++) {
-      const f = Math.abs(z[i - this.binnedTo]) > OUTLIER_Z * scale ? 1 : 0;
+    for (let i = from; i < to; i++) {
+      const f = Math.abs(z[i - from]) > OUTLIER_Z * scale ? 1 : 0;
       if (f !== this.flag[i]) { this.flag[i] = f; changed = true; }
     }
     return changed;
   }
 
+  /**
+   * Bins all but the newest TAIL_KEEP readings once the tail passes TAIL_MAX, after
+   * screening them against the last fit (binned readings can no longer be told apart).
+   */
   private compact(): void {
     const end = this.winFirst + this.winCount;
     if (end - this.binnedTo <= TAIL_MAX) return;
     const upTo = end - TAIL_KEEP;
+    if (this.lastBest) this.screenOutliers(this.lastBest, this.binnedTo, upTo);
     for (let i = this.binnedTo; i < upTo; i++) {
       if (this.flag[i]) { this.binnedOutliers.push(i); continue; }
       const y = this.signal[i];
@@ -229,12 +256,15 @@ export class RunAnalyzer implements RunAnalyzerLike {
   private refit(): void {
     this.refits++;
     this.refittedAt = this.winCount;
+    // Bin first, so a refit costs O(bins + TAIL_MAX) however many readings came since the last.
+    this.compact();
     this.buildSeries();
     let fits = this.fitAll();
-    if (this.screenOutliers(fits)) {
+    if (this.screenOutliers(this.bestFit(fits), this.binnedTo, this.winFirst + this.winCount)) {
       this.buildSeries();
       fits = this.fitAll();
     }
+    this.lastBest = this.bestFit(fits);
     for (const name of ['zero', 'first', 'second', 'nth'] as const) {
       if (fits[name].ok) this.previous[name] = Float64Array.from(fits[name].params);
     }
@@ -250,7 +280,6 @@ export class RunAnalyzer implements RunAnalyzerLike {
       weightOf: (y) => this.weightOf(y), outliers,
     };
     this.cached = buildReport(input);
-    this.compact();
   }
 }
 

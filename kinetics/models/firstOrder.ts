@@ -69,30 +69,33 @@ export function fitFirstOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   for (let i = 0; i < s.count; i++) { sw += s.w[i]; swy += s.w[i] * s.y[i]; }
   const yMean = sw > 0 ? swy / sw : 0;
   const prof = (lnk: number): number => solveLinear(s, Math.exp(lnk), opts, yMean).chi;
-  let lo: number, hi: number;
+  const kLo = Math.log(1e-3 / span), kHi = Math.log(1e3 / span);
+  let lo = kLo, hi = kHi;
+  let bracketed = false;
   const prev = opts.previous;
   if (prev && prev[K] > 0 && Number.isFinite(prev[K])) {
-    // Warm start: a bracket of ±5% around the last k, widened while the minimum sits on an edge.
-    let c = Math.log(prev[K]);
+    // Warm start: a bracket of ±5% around the last k, moved and widened (a few times
+    // only) while the minimum sits on an edge; failing that, the cold scan below.
+    let c = Math.min(kHi, Math.max(kLo, Math.log(prev[K])));
     let h = 0.05;
-    for (let tries = 0; tries < 12; tries++) {
+    for (let tries = 0; tries < 6; tries++) {
       const fc = prof(c), fl = prof(c - h), fh = prof(c + h);
-      if (fc <= fl && fc <= fh) break;
+      if (fc <= fl && fc <= fh) { bracketed = true; break; }
       c = fl < fh ? c - h : c + h;
       h *= 2;
     }
-    lo = c - h; hi = c + h;
-  } else {
+    if (bracketed) { lo = Math.max(kLo, c - h); hi = Math.min(kHi, c + h); }
+  }
+  if (!bracketed) {
     // Cold start: rate constants from 1/1000 to 1000 reactions per observed span.
-    const a = Math.log(1e-3 / span), b = Math.log(1e3 / span);
     const steps = 36;
     let best = 0, bestChi = Number.POSITIVE_INFINITY;
     for (let j = 0; j <= steps; j++) {
-      const chi = prof(a + ((b - a) * j) / steps);
+      const chi = prof(kLo + ((kHi - kLo) * j) / steps);
       if (chi < bestChi) { bestChi = chi; best = j; }
     }
-    lo = a + ((b - a) * Math.max(0, best - 1)) / steps;
-    hi = a + ((b - a) * Math.min(steps, best + 1)) / steps;
+    lo = kLo + ((kHi - kLo) * Math.max(0, best - 1)) / steps;
+    hi = kLo + ((kHi - kLo) * Math.min(steps, best + 1)) / steps;
   }
   // Brent's minimiser on ln k (parabolic steps, golden-section fallback) to 1e-9:
   // the relative precision of k is then far below its standard error.
@@ -103,8 +106,7 @@ export function fitFirstOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   p[K] = k; p[A0] = lin.aInf + lin.c; p[AINF] = lin.aInf;
   const warnings: string[] = [];
   if (lin.c === 0) warnings.push('first order: no decay found (A0 − A∞ fitted as zero)');
-  const edge = Math.log(1e-3 / span) + 1e-6;
-  if (m.x <= edge) warnings.push('first order: the rate is too slow to measure over this span');
+  if (m.x <= kLo + 1e-6) warnings.push('first order: the rate is too slow to measure over this span');
   return finishFit('first', firstOrderLaw, s, p, [true, true, !lin.aInfHeld], iter < 200 && lin.c > 0, warnings);
 }
 

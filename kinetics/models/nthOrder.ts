@@ -20,23 +20,27 @@ function mOf(n: number): number {
   return m < 0 ? -NEAR_FIRST : NEAR_FIRST;
 }
 
-function reacting(tau: number, p: Float64Array): { c: number; b: number; m: number; C: number } {
-  const C = Math.max(p[A0] - p[AINF], 0);
-  const m = mOf(p[ORDER]);
-  if (C === 0) return { c: 0, b: 0, m, C };
-  const b = Math.pow(C, m) - m * p[K] * tau;
-  return { c: b > 0 ? Math.pow(b, 1 / m) : 0, b, m, C };
+// The reacting part at τ, computed once per call into module scratch (no object per
+// evaluation: this runs for every reading at every iteration).
+let rc = 0, rb = 0, rm = 0, rC = 0;
+function reacting(tau: number, p: Float64Array): void {
+  rC = Math.max(p[A0] - p[AINF], 0);
+  rm = mOf(p[ORDER]);
+  if (rC === 0) { rc = 0; rb = 0; return; }
+  rb = Math.pow(rC, rm) - rm * p[K] * tau;
+  rc = rb > 0 ? Math.pow(rb, 1 / rm) : 0;
 }
 
 export const nthOrderLaw: RateLaw = {
   name: 'nth',
   parameterNames: ['k', 'a0', 'aInf', 'n'],
-  value: (tau, p) => p[AINF] + reacting(tau, p).c,
+  value: (tau, p) => { reacting(tau, p); return p[AINF] + rc; },
   gradient: (tau, p, out) => {
-    const { c, b, m, C } = reacting(tau, p);
+    reacting(tau, p);
+    const c = rc, b = rb, m = rm, C = rC;
     if (c === 0 || C === 0) { out[K] = 0; out[A0] = 0; out[AINF] = 1; out[ORDER] = 0; return; }
     // ln c = ln b / m: differentiate through b = C^m − m k t.
-    const cm = Math.pow(C, m);
+    const cm = b + m * p[K] * tau; // C^m, already inside b
     out[K] = (-c * tau) / b;
     const dcdC = (c * cm) / (C * b);
     out[A0] = dcdC;
@@ -46,9 +50,9 @@ export const nthOrderLaw: RateLaw = {
   },
   curvature: (tau, p) => {
     // dc/dt = −k c^n, so d²c/dt² = n k² c^(2n−1).
-    const { c } = reacting(tau, p);
+    reacting(tau, p);
     const n = p[ORDER];
-    return c > 0 ? n * p[K] * p[K] * Math.pow(c, 2 * n - 1) : 0;
+    return rc > 0 ? n * p[K] * p[K] * Math.pow(rc, 2 * n - 1) : 0;
   },
 };
 

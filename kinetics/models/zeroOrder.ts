@@ -1,38 +1,67 @@
 /**
- * Zero order: rate = k, so A = A0 − k t. A∞ is not fitted (0, the blank, unless
- * fixed); it only sets where the reaction ends, for the half-life. The model is
- * linear in (A0, k), so the weighted least-squares solution is closed form.
+ * Zero order: rate = k while reactant lasts, so A = A0 − k t until A reaches A∞, then
+ * A = A∞ (the reaction has run out). A∞ is not fitted (0, the blank, unless fixed); it
+ * only says where the line stops. Before the end the model is a straight line, so the
+ * fit is a weighted line through the readings before the end, with the end time
+ * (A0 − A∞)/k found by iterating: fit, find the end, refit, until the split is stable.
  */
 import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
 import { finishFit } from './fitStatistics';
 
+const before = (tau: number, p: Float64Array): boolean => p[K] <= 0 || tau < (p[A0] - p[AINF]) / p[K];
+
 export const zeroOrderLaw: RateLaw = {
   name: 'zero',
   parameterNames: ['k', 'a0', 'aInf'],
-  value: (tau, p) => p[A0] - p[K] * tau,
-  gradient: (tau, _p, out) => { out[K] = -tau; out[A0] = 1; out[AINF] = 0; },
+  value: (tau, p) => (before(tau, p) ? p[A0] - p[K] * tau : p[AINF]),
+  gradient: (tau, p, out) => {
+    const on = before(tau, p);
+    out[K] = on ? -tau : 0; out[A0] = on ? 1 : 0; out[AINF] = on ? 0 : 1;
+  },
   curvature: () => 0,
 };
 
-export function fitZeroOrder(s: FitSeries, opts: ModelOptions): ModelFit {
-  // Weighted straight line y = a + b τ about the weighted mean time (numerically stable).
-  let sw = 0, st = 0, sy = 0;
-  for (let i = 0; i < s.count; i++) { sw += s.w[i]; st += s.w[i] * s.tau_s[i]; sy += s.w[i] * s.y[i]; }
-  const p = new Float64Array(3);
-  p[AINF] = opts.fixedAInf ?? 0;
-  const free = [true, true, false];
-  if (s.count < 3 || !(sw > 0)) {
-    return finishFit('zero', zeroOrderLaw, s, p, free, false, ['too few points for a zero-order fit']);
+/** Weighted line through the pseudo-points with τ below `end` (about their weighted mean time). */
+function line(s: FitSeries, end: number): { k: number; a0: number; used: number } | null {
+  let sw = 0, st = 0, sy = 0, used = 0;
+  for (let i = 0; i < s.count; i++) {
+    if (s.tau_s[i] >= end) continue;
+    sw += s.w[i]; st += s.w[i] * s.tau_s[i]; sy += s.w[i] * s.y[i]; used++;
   }
+  if (used < 3 || !(sw > 0)) return null;
   const tm = st / sw, ym = sy / sw;
   let stt = 0, sty = 0;
   for (let i = 0; i < s.count; i++) {
+    if (s.tau_s[i] >= end) continue;
     const d = s.tau_s[i] - tm;
     stt += s.w[i] * d * d;
     sty += s.w[i] * d * (s.y[i] - ym);
   }
-  const slope = stt > 0 ? sty / stt : 0;
-  p[K] = -slope;
-  p[A0] = ym - slope * tm;
-  return finishFit('zero', zeroOrderLaw, s, p, free, stt > 0, []);
+  if (!(stt > 0)) return null;
+  const slope = sty / stt;
+  return { k: -slope, a0: ym - slope * tm, used };
+}
+
+export function fitZeroOrder(s: FitSeries, opts: ModelOptions): ModelFit {
+  const p = new Float64Array(3);
+  p[AINF] = opts.fixedAInf ?? 0;
+  const free = [true, true, false];
+  let fit = line(s, Number.POSITIVE_INFINITY);
+  if (!fit) return finishFit('zero', zeroOrderLaw, s, p, free, false, ['too few points for a zero-order fit']);
+  let converged = false;
+  for (let iter = 0; iter < 30; iter++) {
+    p[K] = fit.k; p[A0] = fit.a0;
+    const end = fit.k > 0 ? (fit.a0 - p[AINF]) / fit.k : Number.POSITIVE_INFINITY;
+    const next = line(s, end);
+    if (!next) break;
+    if (next.used === fit.used) { converged = true; break; }
+    fit = next;
+  }
+  p[K] = fit.k; p[A0] = fit.a0;
+  const warnings: string[] = [];
+  const end = fit.k > 0 ? (fit.a0 - p[AINF]) / fit.k : Number.POSITIVE_INFINITY;
+  let last = 0;
+  for (let i = 0; i < s.count; i++) last = Math.max(last, s.tau_s[i]);
+  if (end < last) warnings.push(`zero order: the fitted line reaches A∞ at ${end.toFixed(0)} s, before the last reading; later readings sit on the end value`);
+  return finishFit('zero', zeroOrderLaw, s, p, free, converged, warnings);
 }
