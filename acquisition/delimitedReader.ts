@@ -7,7 +7,8 @@
  * non-finite value, every refusal counted by reason.
  */
 import type { DeviceLine } from './lineProtocol';
-import { emptyRejectCounts, lastNumberProblem, parseDecimal } from './lineProtocol';
+import { emptyRejectCounts } from './lineProtocol';
+import { lastNumberProblem, parseDecimal } from './decimalNumber';
 import type { RejectReason } from './sourceTypes';
 
 export interface DelimitedConfig {

@@ -7,7 +7,8 @@
 import type { DeviceIdentity, SourceCommand } from './sourceTypes';
 import { ReadingFlag } from './sourceTypes';
 import { crc16Hex } from './crc16';
-import { parseDecimal, MAX_LINE_CHARS } from './lineProtocol';
+import { MAX_LINE_CHARS } from './lineProtocol';
+import { parseDecimal } from './decimalNumber';
 
 /** Appends the checksum trailer and the line end. */
 export function sealLine(payload: string): string {

@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { crc16, crc16Hex } from './crc16';
-import { LineParser, MAX_LINE_CHARS, parseDecimal, type DeviceLine } from './lineProtocol';
+import { LineParser, MAX_LINE_CHARS, type DeviceLine } from './lineProtocol';
+import { parseDecimal } from './decimalNumber';
 import {
   formatAbsorbance, formatAck, formatCommand, formatCounts, formatIdentity, formatNak, formatSpectrum,
   formatTemperature, parseCommandLine, sealLine,

@@ -11,6 +11,7 @@
 import type { DeviceIdentity, RejectReason, SpectrumFrame } from './sourceTypes';
 import { ReadingFlag } from './sourceTypes';
 import { crc16 } from './crc16';
+import { lastNumberProblem, parseDecimal } from './decimalNumber';
 
 export const PROTOCOL_VERSION = 1;
 /** Longest accepted line, checksum included, line end excluded (a spectrum of ~500 points fits). */
@@ -39,57 +40,6 @@ export type DeviceLine =
 
 export function emptyRejectCounts(): Record<RejectReason, number> {
   return { checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 };
-}
-
-/** Why a token is not a number: 'malformed' (not numeric text) or 'nonFinite' (NaN, Infinity, overflow). */
-const NOT_NUMBER = { reason: 'malformed' as RejectReason };
-
-/** Why the last parseDecimal call gave NaN: 'malformed' or 'nonFinite'. */
-export function lastNumberProblem(): 'malformed' | 'nonFinite' {
-  return NOT_NUMBER.reason === 'nonFinite' ? 'nonFinite' : 'malformed';
-}
-
-/**
- * Strict decimal number: [+-]digits[.digits][(e|E)[+-]digits]. Returns the value, or
- * sets NOT_NUMBER.reason and returns NaN (the caller turns that into a rejection and
- * never passes it on).
- */
-export function parseDecimal(s: string, from: number, to: number): number {
-  let i = from;
-  if (i < to && (s.charCodeAt(i) === 43 || s.charCodeAt(i) === 45)) i++;
-  let digits = 0;
-  while (i < to && isDigit(s.charCodeAt(i))) { i++; digits++; }
-  if (i < to && s.charCodeAt(i) === 46) {
-    i++;
-    while (i < to && isDigit(s.charCodeAt(i))) { i++; digits++; }
-  }
-  if (digits === 0) {
-    NOT_NUMBER.reason = looksNonFinite(s, from, to) ? 'nonFinite' : 'malformed';
-    return NaN;
-  }
-  if (i < to && (s.charCodeAt(i) | 32) === 101) {
-    i++;
-    if (i < to && (s.charCodeAt(i) === 43 || s.charCodeAt(i) === 45)) i++;
-    let e = 0;
-    while (i < to && isDigit(s.charCodeAt(i))) { i++; e++; }
-    if (e === 0) { NOT_NUMBER.reason = 'malformed'; return NaN; }
-  }
-  if (i !== to) { NOT_NUMBER.reason = 'malformed'; return NaN; }
-  const v = Number(s.slice(from, to));
-  if (!Number.isFinite(v)) { NOT_NUMBER.reason = 'nonFinite'; return NaN; }
-  return v;
-}
-
-function isDigit(c: number): boolean {
-  return c >= 48 && c <= 57;
-}
-
-/** nan, inf, infinity in any case, with an optional sign: what C printf and JS print for non-finite values. */
-function looksNonFinite(s: string, from: number, to: number): boolean {
-  let i = from;
-  if (i < to && (s.charCodeAt(i) === 43 || s.charCodeAt(i) === 45)) i++;
-  const word = s.slice(i, to).toLowerCase();
-  return word === 'nan' || word === 'inf' || word === 'infinity';
 }
 
 /** Where the fields of the line under parse start and end; reused, so a parse allocates little. */
@@ -121,7 +71,7 @@ class Fields {
     const len = this.ends[i]! - this.starts[i]!;
     return len === word.length && this.line.startsWith(word, this.starts[i]);
   }
-  /** A number field; NaN (with NOT_NUMBER.reason set) when it is not one. */
+  /** A number field; NaN (see lastNumberProblem) when it is not one. */
   num(i: number): number {
     return parseDecimal(this.line, this.starts[i]!, this.ends[i]!);
   }
@@ -200,7 +150,7 @@ export class LineParser {
   }
 
   private numberReject(field: string): DeviceLine {
-    return NOT_NUMBER.reason === 'nonFinite'
+    return lastNumberProblem() === 'nonFinite'
       ? this.reject('nonFinite', `${field} is not a finite number`)
       : this.reject('malformed', `${field} is not a number`);
   }
