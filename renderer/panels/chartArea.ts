@@ -43,6 +43,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
   }
   const caption = h('p', { class: 'view-caption small', 'data-testid': 'view-caption' });
   const mainEl = h('div', { class: 'chart-main', 'data-testid': 'chart' });
+  mainEl.style.overflow = 'hidden';
   const residualEl = h('div', { class: 'chart-residual' });
   const chart = createRunChart(mainEl, residualEl, (from_s, to_s) => {
     void actions.send({ type: 'setFitWindow', window: { from_s, to_s } });
@@ -67,10 +68,22 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
     h('div', { class: 'window-line' }, windowText, ' ', whole, ' ', hiddenText,
       h('span', { class: 'small hint' }, 'Drag across the chart to choose the fit window. No reading is deleted.')));
 
+  // The two charts share what the panel's other rows leave free, three parts to one.
+  let sized = '';
   const resize = () => {
     const w = Math.max(320, Math.floor(mainEl.clientWidth));
-    const total = Math.max(300, element.clientHeight - 190);
-    chart.resize(w, Math.round(total * 0.74), Math.round(total * 0.26));
+    let fixed = 0;
+    for (const child of Array.from(element.children)) {
+      if (child === mainEl || child === residualEl) continue;
+      const cs = getComputedStyle(child);
+      fixed += (child as HTMLElement).offsetHeight + parseFloat(cs.marginTop) + parseFloat(cs.marginBottom);
+    }
+    const pad = parseFloat(getComputedStyle(element).paddingTop) + parseFloat(getComputedStyle(element).paddingBottom);
+    const free = Math.max(260, element.clientHeight - pad - fixed - 4);
+    const key = `${w}x${free}`;
+    if (key === sized) return; // a resize of our own making: nothing to do
+    sized = key;
+    chart.resize(w, Math.round(free * 0.74), Math.round(free * 0.26));
   };
   new ResizeObserver(() => { resize(); onResize(); }).observe(element);
 

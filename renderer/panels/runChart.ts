@@ -114,7 +114,17 @@ export function createRunChart(
       width: 800, height: 130,
       legend: { show: false },
       scales: { x: { time: false, auto: false }, y: { auto: false } },
-      axes: [axis('', 28), axis('residual', 70)],
+      axes: [axis('', 28), {
+        ...axis('residual', 70),
+        // Zero and one tick each way, at a round value: the strip is short, its scale must still read.
+        splits: (_u, _i, min, max) => {
+          const m = Math.max(Math.abs(min), Math.abs(max)) * 0.8;
+          if (!(m > 0)) return [0];
+          const p = Math.pow(10, Math.floor(Math.log10(m)));
+          const r = Math.floor(m / p) * p;
+          return [-r, 0, r];
+        },
+      }],
       series: [{}, dots(PALETTE.residual, 3)],
       cursor: { sync: { key: 'rateline-run' }, drag: { x: false, y: false }, points: { show: false } },
       hooks: {
