@@ -54,6 +54,7 @@ export class ReadingAssembler {
   private referenceTemp_C: number | null = null;
   private temperatureOut = false;
   private problemsReported = 0;
+  private awaitingWhy = '';
 
   constructor(
     private readonly emit: (e: SourceEvent) => void,
@@ -141,8 +142,10 @@ export class ReadingAssembler {
     const blank = this.blank;
     if (!blank || Math.abs(blank.wavelength_nm - line.wavelength_nm) > this.wlTolerance_nm) {
       this.awaitingBlank++;
-      if (this.awaitingBlank === 1 || this.awaitingBlank % 600 === 0) {
-        const why = blank ? `the blank was taken at ${blank.wavelength_nm} nm, the device now reads at ${line.wavelength_nm} nm` : 'no blank has been taken';
+      const why = blank ? `the blank was taken at ${blank.wavelength_nm} nm, the device now reads at ${line.wavelength_nm} nm` : 'no blank has been taken';
+      // Said when the reason changes, then now and again (not on every line).
+      if (why !== this.awaitingWhy || this.awaitingBlank % 600 === 0) {
+        this.awaitingWhy = why;
         this.emit({ type: 'warning', message: `the device sends raw counts and ${why}: take a blank to turn them into absorbance (${this.awaitingBlank} line(s) waiting so far)` });
       }
       return;
