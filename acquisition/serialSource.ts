@@ -118,6 +118,7 @@ export class SerialSource implements ReadingSource {
 
   /** Opens the port; rejects with a SourceOpenError whose message lists the ports that exist. */
   async open(): Promise<void> {
+    if (this.port || this.reconnecting) return; // already open (or on its way back)
     this.closing = false;
     this.status({ kind: 'connecting', detail: `opening ${this.path} at ${this.baudRate} baud` });
     try {

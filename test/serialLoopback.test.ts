@@ -91,7 +91,7 @@ describe('serial loopback through a real pty pair', () => {
 
     // The host side opens first, so that it sees the emulator's first line.
     source = new SerialSource({
-      path: hostLink, expectedInterval_s: 1 / SPEED, staleAfterIntervals: 50,
+      path: hostLink, expectedInterval_s: 1 / SPEED, staleAfterIntervals: 250, // 5 s: a busy machine's pause is not a stale feed
       reconnect: { initialDelay_ms: 100, maxDelay_ms: 400 },
     });
     source.on((e) => {
