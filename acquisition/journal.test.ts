@@ -352,3 +352,32 @@ describe('notes added later go beside the record', () => {
     expect(() => appendNote(join(dir, 'missing.jsonl'), { note: 'x' })).toThrow(/no such run record/);
   });
 });
+
+describe('release before analysis', () => {
+  it('writes a live feed line by line before it is analysed, and batches a burst', () => {
+    const fs = memoryFs();
+    let now = 0;
+    const j = Journal.create('mem.jsonl', demoHeader(), { fs, now_ms: () => now, timer: false });
+    const writesAtStart = j.progress().writes;
+    // A live feed: one reading every 10 ms, each released after it is handed over.
+    for (let i = 0; i < 10; i++) {
+      now = 10 * i + 1;
+      j.reading(reading(i, 0.5));
+      j.release();
+      expect(fs.written.endsWith(`[${i},0.5,0]\n`)).toBe(true); // on its way to disk before any analysis
+    }
+    expect(j.progress().writes - writesAtStart).toBe(10);
+    expect(fs.syncs).toBe(1); // released, not fsynced: the commit policy still decides that
+    // A burst within one millisecond: one write for all of it.
+    const before = j.progress().writes;
+    for (let i = 10; i < 60; i++) {
+      j.reading(reading(i, 0.5));
+      j.release();
+    }
+    expect(j.progress().writes - before).toBe(0);
+    now += 1;
+    j.release();
+    expect(j.progress().writes - before).toBe(1);
+    expect(parseRunRecord(fs.written, 'mem.jsonl').readings.count).toBe(60);
+  });
+});

@@ -96,6 +96,7 @@ export class Journal {
   private syncedLastT: number | null = null;
   private lineCount = 0;
   private writeCount = 0;
+  private lastWrite_ms = -Infinity;
   private syncCount = 0;
   private closed = false;
   private failure: JournalError | null = null;
@@ -217,6 +218,18 @@ export class Journal {
     this.syncedLastT = this.writtenLastT;
   }
 
+  /**
+   * Hands the buffered lines to the operating system, without fsync: from then on a killed
+   * process cannot lose them (a power cut still can, until the next commit). The recorder
+   * calls it before each step of analysis, which may hold the thread for a while. At most
+   * one write per millisecond: a live feed (readings at least 1 ms apart) gets every
+   * reading written before it is analysed, a replay at full speed still writes in batches.
+   */
+  release(): void {
+    if (this.failure || this.closed || this.pending.length === 0) return;
+    if (this.now() - this.lastWrite_ms >= 1) this.writePending();
+  }
+
   /** Writes the end line, commits and closes. Safe to call twice. */
   close(rejected: Record<string, number> = {}): void {
     if (this.closed) return;
@@ -295,6 +308,7 @@ export class Journal {
       throw this.fail(err);
     }
     this.writeCount++;
+    this.lastWrite_ms = this.now();
     this.pending = '';
     this.pendingSince_ms = null;
     this.writtenReadings += this.pendingReadings;

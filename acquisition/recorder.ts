@@ -307,6 +307,8 @@ export class Recorder {
     if (this.timeZero_s === null || r.deviceTime_s < this.timeZero_s) return;
     const t = r.deviceTime_s - this.timeZero_s;
     this.runTime_s = t;
+    // A refit can hold the thread for longer than the commit interval; what is measured goes to the OS first.
+    this.journal.release();
     this.analyzer.add(t, r.absorbance);
     const max = this.opts.maxRunSeconds;
     if (max !== undefined && t >= max) {

@@ -99,4 +99,34 @@ describe('crash recovery', () => {
     expect(kinds).toContain('mixed');
     expect(kinds).not.toContain('stop');
   }, 60_000);
+
+  it('closes the record cleanly on SIGTERM: stop and end lines, nothing dropped', async () => {
+    mkdirSync(artifacts, { recursive: true });
+    const path = join(artifacts, 'sigterm-stop.jsonl');
+    rmSync(path, { force: true });
+    const child = spawn(
+      process.execPath,
+      [join(root, 'bin', 'rateline.js'), 'record', '--simulate', '--speed', '100', '--out', path, '--progress', 'json', '--progress-ms', '100'],
+      { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] },
+    );
+    let out = '';
+    const exited = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
+    await new Promise<void>((resolve) => {
+      child.stdout.on('data', (d: Buffer) => {
+        out += d.toString();
+        const last = out.trimEnd().split('\n').at(-1)!;
+        if ((JSON.parse(last) as { journalled: number }).journalled >= 50) resolve();
+      });
+    });
+    child.kill('SIGTERM');
+    expect(await exited).toBe(0);
+    const lines = out.trimEnd().split('\n').map((l) => JSON.parse(l) as Record<string, unknown>);
+    const summary = lines.at(-1)!;
+    expect(summary).toMatchObject({ stopped: 'signal', detail: 'SIGTERM', record: path });
+    const rec = readRunRecord(path);
+    expect(rec.recovery.clean).toBe(true);
+    expect(rec.end!.readings).toBe(rec.readings.count);
+    expect(rec.readings.count).toBe(summary.readings);
+    expect(rec.events.at(-1)!.event).toMatchObject({ ev: 'stop', reason: 'signal', detail: 'SIGTERM' });
+  }, 60_000);
 });
