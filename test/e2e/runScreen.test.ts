@@ -154,6 +154,27 @@ describe('run screen against the real bench service', () => {
     await page.getByRole('radio', { name: 'Simulated (demo)' }).check();
   });
 
+  it('catches up after a reload in mid-run: every reading so far, none twice', async () => {
+    const { page } = browser;
+    await page.getByRole('radio', { name: 'Simulated (demo)' }).check();
+    await page.getByTestId('use-source').click();
+    await expect.poll(async () => page.getByTestId('source-status').textContent(), { timeout: 20_000 }).toMatch(/^Connected/);
+    await page.getByRole('button', { name: /^Start/ }).click();
+    await expect.poll(async () => countIn(await page.getByTestId('drawn').textContent()), { timeout: 20_000 }).toBeGreaterThan(100);
+    await page.reload();
+    await page.getByText('Service: connected').waitFor({ timeout: 20_000 });
+    await expect.poll(async () => countIn(await page.getByTestId('drawn').textContent()), { timeout: 20_000 }).toBeGreaterThan(100);
+    await page.getByRole('button', { name: /^Stop/ }).click();
+    await page.getByText(/^Stopped: \d+ readings recorded/).waitFor({ timeout: 20_000 });
+    await page.waitForTimeout(500);
+    const screenCount = countIn(await page.getByText(/^Stopped: \d+ readings recorded/).textContent());
+    expect(countIn(await page.getByTestId('drawn').textContent())).toBe(screenCount);
+    const files = recordFiles(dataDir).sort((a, b) => statSync(a).mtimeMs - statSync(b).mtimeMs);
+    expect(files).toHaveLength(2);
+    expect(readRecord(files[1]!).readings.length).toBe(screenCount);
+    expect(problems).toEqual([]);
+  }, 120_000);
+
   it('switches to the linearised views and back, saying what each shows', async () => {
     const { page } = browser;
     const caption = page.getByTestId('view-caption');
