@@ -46,6 +46,7 @@ export interface WebPreferencesLike {
   experimentalFeatures: boolean;
   navigateOnDragDrop: boolean;
   spellcheck: boolean;
+  disableBlinkFeatures: string;
 }
 
 export interface BrowserWindowOptionsLike {

@@ -131,7 +131,7 @@ describe('Electron shell wiring (fake Electron API)', () => {
     expect(w.options.webPreferences).toMatchObject({
       contextIsolation: true, sandbox: true, nodeIntegration: false, nodeIntegrationInWorker: false,
       nodeIntegrationInSubFrames: false, webSecurity: true, allowRunningInsecureContent: false, webviewTag: false,
-      preload: '/app/dist/electron/preload.cjs',
+      preload: '/app/dist/electron/preload.cjs', disableBlinkFeatures: 'Auxclick',
     });
     expect(w.loaded).toEqual([APP_URL]);
     const schemeAt = fake.log.findIndex((l) => l.startsWith('scheme:'));
