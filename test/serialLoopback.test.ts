@@ -153,3 +153,55 @@ describe('serial loopback through a real pty pair', () => {
     expect(emulatorOut).toMatch(/stopped \(SIGTERM\)/);
   }, 90_000);
 });
+
+describe('serial loopback: a counts instrument and the blank over the real line', () => {
+  let dir = '';
+  let socat: ChildProcess | null = null;
+  let emulator: ChildProcess | null = null;
+  let source: SerialSource | null = null;
+  const events: SourceEvent[] = [];
+
+  beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'rateline-loop-counts-')); });
+  afterAll(async () => {
+    await source?.close();
+    await stop(emulator);
+    await stop(socat);
+    mkdirSync(artifacts, { recursive: true });
+    writeFileSync(join(artifacts, 'serial-loopback-counts.jsonl'), events.map((e) => JSON.stringify(e)).join('\n') + '\n');
+    rmSync(dir, { recursive: true, force: true });
+  });
+
+  it('takes the blank by command, then gives absorbance from counts that the analyzer fits', async () => {
+    const devLink = join(dir, 'device');
+    const hostLink = join(dir, 'host');
+    socat = (await startSocat(devLink, hostLink)).proc;
+    await until(() => existsSync(devLink) && existsSync(hostLink), 'the link paths', 3000);
+    source = new SerialSource({ path: hostLink, expectedInterval_s: 1 / SPEED, staleAfterIntervals: 250, blankDuration_s: 5 });
+    const readings: Reading[] = [];
+    const analyzer = new RunAnalyzer();
+    source.on((e) => {
+      events.push(e);
+      if (e.type === 'reading') { readings.push(e.reading); analyzer.add(e.reading.deviceTime_s, e.reading.absorbance); }
+    });
+    await source.open();
+    emulator = spawn(process.execPath, [join(root, 'bin/rateline.js'), 'emulate', '--port', devLink, '--speed', String(SPEED), '--k', String(K_TRUE), '--counts', '--seed', '5'], { cwd: root, stdio: 'ignore' });
+    await until(() => events.some((e) => e.type === 'status' && e.status.kind === 'connected' && e.status.identity?.sends === 'counts'), 'the identity', 15_000);
+    expect(readings).toHaveLength(0); // no blank yet: counts cannot be absorbance
+    expect(await source.command({ type: 'takeBlank' })).toEqual({ ok: true });
+    await until(() => readings.length >= 120, '120 readings after the blank', 20_000);
+    const blank = events.find((e) => e.type === 'blank');
+    if (blank?.type !== 'blank') throw new Error('no blank event');
+    expect(blank.blank.points).toBe(5);
+    // The emulator's lamp gives 50000 net counts through the blank (σ_T 0.001 → about ±50 counts)
+    expect(Math.abs(blank.blank.netBlank_counts - 50000)).toBeLessThan(200);
+    for (const r of readings) {
+      // common practice: A = −log10((I − I_dark)/(I_blank − I_dark))
+      expect(r.absorbance).toBeCloseTo(-Math.log10((r.sampleCounts! - r.darkCounts!) / blank.blank.netBlank_counts), 12);
+    }
+    for (let i = 1; i < readings.length; i++) expect(readings[i]!.deviceTime_s - readings[i - 1]!.deviceTime_s).toBeCloseTo(1, 6);
+    const ci = analyzer.flush().models.first.kCI95;
+    expect(ci![0]).toBeLessThan(K_TRUE);
+    expect(ci![1]).toBeGreaterThan(K_TRUE);
+    expect(await source.command({ type: 'setWavelength', wavelength_nm: 50 })).toMatchObject({ ok: false, error: /wavelength out of range/ });
+  }, 60_000);
+});
