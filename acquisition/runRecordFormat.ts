@@ -13,7 +13,8 @@ export const RUN_RECORD_VERSION = 1;
 /** The column names of a reading array, in order (documented in the header too). */
 export const READING_COLUMNS = ['t_s', 'A', 'h_ms', 'flags', 'cellT_C', 'I_sample', 'I_dark'] as const;
 
-const finite = z.number().refine(Number.isFinite, 'must be a finite number');
+/** zod 4's number() refuses NaN and ±Infinity already (JSON cannot carry them anyway). */
+const finite = z.number();
 const text = z.string().max(10_000);
 const optionalText = text.nullable();
 const optionalFinite = finite.nullable();
@@ -85,10 +86,13 @@ export type RecordHeader = z.infer<typeof headerSchema>;
  * left out when they carry nothing (flags 0, the rest null), so the common line is
  * three numbers.
  */
-export const readingLineSchema = z.union([
-  z.tuple([finite, finite, finite]),
-  z.tuple([finite, finite, finite, z.number().int().min(0)], optionalFinite),
-]);
+export const readingLineSchema = z
+  .tuple([z.number(), z.number(), z.number()], z.number().nullable())
+  .refine((r) => r.length <= READING_COLUMNS.length, { message: `at most ${READING_COLUMNS.length} columns` })
+  .refine((r) => r.length < 4 || (typeof r[3] === 'number' && Number.isInteger(r[3]) && r[3] >= 0), {
+    message: 'flags (column 4) must be a whole number ≥ 0',
+    path: [3],
+  });
 
 const sourceStatusSchema = z
   .object({ kind: z.enum(['connecting', 'connected', 'disconnected', 'reconnecting', 'stale', 'ended', 'error']) })
