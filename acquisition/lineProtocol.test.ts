@@ -99,6 +99,20 @@ describe('line parser', () => {
       }));
   });
 
+  it('round-trips counts readings and spectrum frames (property)', () => {
+    fc.assert(fc.property(fc.double({ min: 0, max: 1e6, noNaN: true }), fc.nat(1_000_000), fc.option(fc.nat(5000)), fc.boolean(), (t, s, d, blank) => {
+      const out = new LineParser().parse(formatCounts(blank, t, 630, s, d, null));
+      return out.kind === 'counts' && out.blank === blank && out.sampleCounts === s && out.darkCounts === d && Math.abs(out.deviceTime_s - t) <= 5e-4 + 1e-9;
+    }));
+    fc.assert(fc.property(fc.array(fc.double({ min: -1, max: 4, noNaN: true }), { minLength: 1, maxLength: 300 }), fc.double({ min: 190, max: 900, noNaN: true }), (values, start) => {
+      const line = formatSpectrum(1, 'absorbance', start, 0.5, values);
+      if (line === null) return values.length * 8 > 3000; // only a frame too long for the cap is refused by the formatter
+      const out = new LineParser().parse(line);
+      return out.kind === 'spectrum' && out.frame.values.length === values.length
+        && values.every((v, i) => Math.abs(out.frame.values[i]! - v) <= 5e-5 + 1e-12);
+    }), { numRuns: 200 });
+  });
+
   it('refuses each kind of bad line under its own reason', () => {
     const p = new LineParser();
     const cases: [string, string][] = [

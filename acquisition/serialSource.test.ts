@@ -8,6 +8,7 @@ type MockPortBinding = Awaited<ReturnType<typeof MockBinding.open>>;
 import { SerialSource, type PortBinding } from './serialSource';
 import { openFailureMessage, classifyOpenError } from './portErrors';
 import { SimulatedInstrument, defaultInstrumentSettings } from './simulatedInstrument';
+import fc from 'fast-check';
 import { formatAbsorbance } from './lineFormat';
 import type { Reading, SourceEvent } from './sourceTypes';
 
@@ -267,5 +268,34 @@ describe('serial source: other line formats and unplug detection', () => {
     there = false;
     await until(() => statuses().includes('disconnected'), 'disconnected');
     expect(statuses()).toContain('reconnecting');
+  });
+});
+
+describe('serial source: noisy bytes through the whole read path (fuzz)', () => {
+  it('never passes on a non-finite or out-of-order reading, whatever the bytes and their chunking', async () => {
+    await fc.assert(fc.asyncProperty(
+      fc.array(fc.oneof(
+        fc.nat(100).map((i) => formatAbsorbance(i, 630, 0.5, 25)),
+        fc.uint8Array({ maxLength: 80 }).map((b) => Buffer.from(b).toString('latin1')),
+        fc.constantFrom('a 1.000 630.0 NaN - - ^0000\n', '\n\n', '\r\n', 'a 9'.padEnd(5000, '9')),
+      ), { maxLength: 25 }),
+      async (chunks) => {
+        MockBinding.reset();
+        bench = new MockBench();
+        bench.plug('/dev/ttyUSB0', 'A1');
+        const s = new SerialSource({ path: '/dev/ttyUSB0', binding: bench.binding, expectedInterval_s: 10 });
+        const readings: Reading[] = [];
+        s.on((e) => { if (e.type === 'reading') readings.push(e.reading); });
+        await s.open();
+        for (const c of chunks) bench.send('/dev/ttyUSB0', [c]);
+        await wait(5);
+        await s.close();
+        for (let i = 0; i < readings.length; i++) {
+          const r = readings[i]!;
+          if (!Number.isFinite(r.absorbance) || !Number.isFinite(r.deviceTime_s)) return false;
+          if (i > 0 && r.deviceTime_s < readings[i - 1]!.deviceTime_s) return false;
+        }
+        return true;
+      }), { numRuns: 60 });
   });
 });
