@@ -51,9 +51,13 @@ export function nativeDialogs(dialog: ElectronApi['dialog'], dataDir: string): B
   };
 }
 
-/** Must run before the app is ready: our scheme is a standard, secure origin. */
+/**
+ * Must run before the app is ready: our scheme is a standard, secure origin. corsEnabled
+ * lets the page's module scripts (loaded with the crossorigin attribute) come from it;
+ * the handler sends no Access-Control-Allow-Origin, so no other origin can read it.
+ */
 export function registerAppScheme(api: ElectronApi): void {
-  api.protocol.registerSchemesAsPrivileged([{ scheme: APP_SCHEME, privileges: { standard: true, secure: true, supportFetchAPI: true } }]);
+  api.protocol.registerSchemesAsPrivileged([{ scheme: APP_SCHEME, privileges: { standard: true, secure: true, supportFetchAPI: true, corsEnabled: true } }]);
 }
 
 export interface ShellOptions {
