@@ -38,7 +38,9 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
   const serialRow = h('div', { class: 'field-group' },
     h('label', { class: 'field' }, 'Port ', port, portList, ' ', refreshPorts), portsFound, h('label', { class: 'field' }, 'Baud ', baud));
   const record = h('select', { 'aria-label': 'Recorded run' });
-  const replayRow = h('label', { class: 'field' }, 'Record ', record);
+  const replaySpeed = h('select', { 'aria-label': 'Replay speed' },
+    h('option', { value: '1' }, 'as recorded (1×)'), h('option', { value: '10' }, '10×'), h('option', { value: '100' }, '100×'), h('option', { value: 'max' }, 'as fast as possible'));
+  const replayRow = h('div', { class: 'field-group' }, h('label', { class: 'field' }, 'Record ', record), h('label', { class: 'field' }, 'Speed ', replaySpeed));
   const use = h('button', { type: 'button', class: 'small-button primary', 'data-testid': 'use-source' }, 'Use and connect');
   const disconnect = h('button', { type: 'button', class: 'small-button' }, 'Disconnect');
   const sourceLabel = h('p', { class: 'small source-label' });
@@ -85,7 +87,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
       source = { kind: 'serial', path: port.value.trim(), baud: Number(baud.value) };
     } else if (k === 'replay') {
       if (!record.value) { store.update((d) => { addMessage(d, 'error', 'Recorded run: there is no record to play yet; record a run first.'); }); return; }
-      source = { kind: 'replay', file: record.value };
+      source = { kind: 'replay', file: record.value, speed: replaySpeed.value === 'max' ? 'max' : Number(replaySpeed.value) };
     } else {
       const s = Number(speed.value);
       source = { kind: 'simulated', speed: Number.isFinite(s) && s >= 0.1 ? Math.min(s, 10000) : 1 };

@@ -175,6 +175,25 @@ describe('run screen against the real bench service', () => {
     expect(problems).toEqual([]);
   }, 120_000);
 
+  it('plays a recorded run back and fits it again', async () => {
+    const { page } = browser;
+    const [first] = recordFiles(dataDir).sort((a, b) => statSync(a).mtimeMs - statSync(b).mtimeMs);
+    const recorded = readRecord(first!).readings.length;
+    await page.getByRole('radio', { name: 'Recorded run' }).check();
+    const name = first!.split('/').pop()!;
+    await expect.poll(async () => page.getByRole('combobox', { name: 'Recorded run' }).locator('option').allTextContents(), { timeout: 10_000 }).toContain(name);
+    await page.getByRole('combobox', { name: 'Recorded run' }).selectOption(name);
+    await page.getByLabel('Replay speed').selectOption('max');
+    await page.getByTestId('use-source').click();
+    await page.getByRole('button', { name: /^Start/ }).click();
+    // Played as fast as possible, the whole record arrives and the run ends by itself or by Stop.
+    await expect.poll(async () => countIn(await page.getByTestId('drawn').textContent()), { timeout: 30_000 }).toBe(recorded);
+    await expect.poll(async () => page.getByTestId('k').textContent(), { timeout: 30_000 }).toMatch(/±/);
+    if (await page.getByRole('button', { name: /^Stop/ }).isEnabled()) await page.getByRole('button', { name: /^Stop/ }).click();
+    await page.getByText(/^Stopped: \d+ readings recorded/).waitFor({ timeout: 20_000 });
+    expect(problems).toEqual([]);
+  }, 120_000);
+
   it('switches to the linearised views and back, saying what each shows', async () => {
     const { page } = browser;
     const caption = page.getByTestId('view-caption');
