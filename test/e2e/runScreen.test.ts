@@ -207,4 +207,14 @@ describe('run screen against the real bench service', () => {
     await expect.poll(() => caption.textContent()).toMatch(/^Absorbance against time/);
     expect(problems).toEqual([]);
   });
+
+  // Last: it ends the service.
+  it('says plainly when the bench service goes away, and keeps what it shows', async () => {
+    const { page } = browser;
+    const before = countIn(await page.getByTestId('drawn').textContent());
+    await serve.stop();
+    await page.getByText('Service: LOST, reload the page').waitFor({ timeout: 10_000 });
+    await expect(page.getByText('Bench service lost: reload the page').isVisible()).resolves.toBe(true);
+    expect(countIn(await page.getByTestId('drawn').textContent())).toBe(before);
+  });
 });
