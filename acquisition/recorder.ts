@@ -58,6 +58,7 @@ export interface RecorderProgress {
   rejected: Record<RejectReason, number>;
   gaps: number;
   warnings: number;
+  /** The latest warning if it came in the last 30 s (host time), else null. */
   lastWarning: string | null;
 }
 
@@ -90,6 +91,7 @@ export class Recorder {
   private gaps = 0;
   private warnings = 0;
   private lastWarning: string | null = null;
+  private lastWarningAt_ms = -Infinity;
   private unsubscribe: Array<() => void> = [];
   private blankTimer: ReturnType<typeof setTimeout> | null = null;
   private stopping: Promise<RecorderOutcome> | null = null;
@@ -160,7 +162,8 @@ export class Recorder {
       rejected: { ...this.rejected },
       gaps: this.gaps,
       warnings: this.warnings,
-      lastWarning: this.lastWarning,
+      // A warning stays in the progress line for half a minute; the record keeps them all.
+      lastWarning: this.now() - this.lastWarningAt_ms < 30_000 ? this.lastWarning : null,
     };
   }
 
@@ -241,6 +244,7 @@ export class Recorder {
           ev: 'blank', h: this.h(), t: e.blank.deviceTime_s,
           detail: `blank of ${e.blank.points} readings at ${e.blank.wavelength_nm} nm (net ${e.blank.netBlank_counts} counts, dark ${e.blank.dark_counts})`,
           noise_AU: e.blank.noise_AU, drift_AUperMin: e.blank.drift_AUperMin,
+          reference: { net_counts: e.blank.netBlank_counts, dark_counts: e.blank.dark_counts, points: e.blank.points, wavelength_nm: e.blank.wavelength_nm },
         });
         for (const w of e.blank.warnings) this.warn(w);
         if (this.blankTimer) clearTimeout(this.blankTimer);
@@ -336,6 +340,7 @@ export class Recorder {
   private warn(message: string): void {
     this.warnings++;
     this.lastWarning = message;
+    this.lastWarningAt_ms = this.now();
     this.journal.event({ ev: 'warning', h: this.h(), t: this.lastT, message });
   }
 

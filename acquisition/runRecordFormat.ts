@@ -108,6 +108,8 @@ export const eventSchema = z.discriminatedUnion('ev', [
     detail: text,
     noise_AU: optionalFinite,
     drift_AUperMin: optionalFinite,
+    /** The reference taken from a counts device: I_blank − I_dark (net) and I_dark, over `points` readings. */
+    reference: z.object({ net_counts: finite, dark_counts: finite, points: z.number().int().min(0), wavelength_nm: finite }).optional(),
   }),
   z.object({ ev: z.literal('mixed'), ...at, wall: isoWithOffset }),
   z.object({ ev: z.literal('gap'), ...at, from_h: finite, to_h: finite, reason: text }),

@@ -1,0 +1,114 @@
+/**
+ * `rateline record --port` over a real serial line: socat makes a pty pair, `rateline
+ * emulate --counts` plays a counts-sending instrument on one end, and `rateline record`
+ * records from the other, taking the blank first, until its time limit. The record is
+ * left in test-artifacts/serial-record.jsonl.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { analysisSeries, readRunRecord } from '../acquisition/journalReader';
+import { ReadingFlag } from '../acquisition/sourceTypes';
+import { RunAnalyzer } from '../kinetics/runAnalyzer';
+
+const root = join(import.meta.dirname, '..');
+const bin = join(root, 'bin', 'rateline.js');
+const artifacts = join(root, 'test-artifacts');
+const recordPath = join(artifacts, 'serial-record.jsonl');
+const dir = mkdtempSync(join(tmpdir(), 'rateline-record-serial-'));
+const devLink = join(dir, 'dev');
+const hostLink = join(dir, 'host');
+const started: ChildProcess[] = [];
+
+function launch(cmd: string, args: string[]): ChildProcess {
+  const p = spawn(cmd, args, { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] });
+  started.push(p);
+  return p;
+}
+
+/** Resolves once socat has made both ptys and started copying between them. */
+function socatReady(p: ChildProcess): Promise<void> {
+  return new Promise((resolve, reject) => {
+    let err = '';
+    const timer = setTimeout(() => reject(new Error(`socat did not start: ${err}`)), 10_000);
+    p.stderr!.on('data', (d: Buffer) => {
+      err += d.toString();
+      if (/starting data transfer loop/.test(err)) {
+        clearTimeout(timer);
+        resolve();
+      }
+    });
+  });
+}
+
+function exitOf(p: ChildProcess): Promise<number | null> {
+  return new Promise((resolve) => (p.exitCode !== null ? resolve(p.exitCode) : p.on('exit', (code) => resolve(code))));
+}
+
+afterAll(async () => {
+  for (const p of started.reverse()) {
+    if (p.exitCode === null && p.signalCode === null) {
+      p.kill('SIGTERM');
+      await exitOf(p);
+    }
+  }
+  rmSync(dir, { recursive: true, force: true });
+});
+
+describe('rateline record from a serial instrument', () => {
+  it('takes the blank first from a counts device, then records and analyses until the limit', async () => {
+    mkdirSync(artifacts, { recursive: true });
+    rmSync(recordPath, { force: true }); // this test owns the name; a record itself is never overwritten
+    const socat = launch('socat', ['-d', '-d', `pty,raw,echo=0,link=${devLink}`, `pty,raw,echo=0,link=${hostLink}`]);
+    await socatReady(socat);
+    const emulator = launch(process.execPath, [bin, 'emulate', '--port', devLink, '--counts', '--speed', '100', '--seed', '5']);
+    let emulatorErr = '';
+    emulator.stderr!.on('data', (d: Buffer) => (emulatorErr += d.toString()));
+    const recorder = launch(process.execPath, [bin, 'record', '--port', hostLink, '--out', recordPath, '--max-seconds', '300', '--progress', 'json', '--progress-ms', '200', '--sample', 'demo dye, serial line', '--operator', 'demo', '--wavelength-nm', '630', '--path-cm', '1.00', '--conc', 'hypochlorite=0.010 M']);
+    let out = '';
+    let err = '';
+    recorder.stdout!.on('data', (d: Buffer) => (out += d.toString()));
+    recorder.stderr!.on('data', (d: Buffer) => (err += d.toString()));
+    const code = await exitOf(recorder);
+    expect({ code, err, emulatorErr }).toMatchObject({ code: 0, err: '' });
+
+    const summary = JSON.parse(out.trimEnd().split('\n').at(-1)!) as { stopped: string; readings: number };
+    expect(summary.stopped).toBe('limit');
+    const rec = readRunRecord(recordPath);
+    expect(rec.recovery.clean).toBe(true);
+    expect(rec.header.run).toMatchObject({ sample: 'demo dye, serial line', operator: 'demo', wavelength_nm: 630, path_cm: 1, concentrations: [{ name: 'hypochlorite', value: 0.01, unit: 'M' }] });
+    expect(rec.header.instrument).toMatchObject({ source: 'serial', port: hostLink, baud: 115200 });
+    const kinds = rec.events.map((e) => e.event.ev);
+    // The blank comes before time zero, and the identity (a counts device) before the blank.
+    expect(kinds.indexOf('meta')).toBeLessThan(kinds.indexOf('blank'));
+    expect(kinds.indexOf('blank')).toBeLessThan(kinds.indexOf('mixed'));
+    expect(rec.events.find((e) => e.event.ev === 'meta')!.event).toMatchObject({ instrument: { identity: { sends: 'counts' } } });
+    // Readings computed from counts carry their raw intensities and the flag that says so.
+    const mixed = rec.events.find((e) => e.event.ev === 'mixed')!;
+    expect(rec.readings.count - mixed.index).toBe(301);
+    for (let i = mixed.index; i < rec.readings.count; i++) {
+      expect(rec.readings.flags[i]! & ReadingFlag.fromIntensity).toBe(ReadingFlag.fromIntensity);
+      expect(Number.isFinite(rec.readings.sampleCounts[i])).toBe(true);
+      expect(Number.isFinite(rec.readings.darkCounts[i])).toBe(true);
+    }
+    // Beer–Lambert by the definition: A = −log10((I − I_dark)/(I_blank − I_dark)), with the blank's net counts.
+    const blank = rec.events.find((e) => e.event.ev === 'blank')!.event as { reference?: { net_counts: number; points: number } };
+    const netBlank = blank.reference!.net_counts;
+    expect(blank.reference!.points).toBeGreaterThan(0);
+    const i0 = mixed.index + 10;
+    const ratio = (rec.readings.sampleCounts[i0]! - rec.readings.darkCounts[i0]!) / netBlank;
+    expect(rec.readings.absorbance[i0]).toBeCloseTo(-Math.log10(ratio), 6);
+    // Negative control: the natural logarithm (a classic slip) is far off.
+    expect(Math.abs(rec.readings.absorbance[i0]! + Math.log(ratio))).toBeGreaterThan(0.1);
+    // First order is memoryless, so k does not depend on when the device's clock started:
+    // the demo k_obs = 3.5 × 10⁻³ s⁻¹ (DEMO.md) must lie inside the record's 95% CI.
+    const a = new RunAnalyzer();
+    const s = analysisSeries(rec);
+    for (let i = 0; i < s.time_s.length; i++) a.add(s.time_s[i]!, s.absorbance[i]!);
+    const ci = a.flush().models.first.kCI95!;
+    expect(ci[0]).toBeLessThan(3.5e-3);
+    expect(ci[1]).toBeGreaterThan(3.5e-3);
+  }, 90_000);
+});
