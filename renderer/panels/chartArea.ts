@@ -53,7 +53,8 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
   const ring = h('span', { class: 'ring' }); ring.style.borderColor = PALETTE.outlier;
   const legend = h('div', { class: 'legend' },
     h('span', {}, dot, ' readings in the fit'), h('span', {}, paleDot, ' left out of the fit'), h('span', {}, ring, ' outlier'),
-    ...CURVE_MODELS.map((m) => h('span', {}, legendSwatch(CURVE_STYLE[m].color, CURVE_STYLE[m].dash), ` ${MODEL_WORDS[m]}`)));
+    ...CURVE_MODELS.map((m) => h('span', {}, legendSwatch(CURVE_STYLE[m].color, CURVE_STYLE[m].dash), ` ${MODEL_WORDS[m]}`)),
+    h('span', { class: 'small' }, '(the thick curve is the order the results show)'));
   const windowText = h('span', { 'data-testid': 'fit-window' });
   const whole = h('button', { type: 'button', class: 'small-button' }, 'Fit all readings');
   whole.addEventListener('click', () => void actions.send({ type: 'setFitWindow', window: { from_s: null, to_s: null } }));
