@@ -69,7 +69,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
     h('div', { class: 'window-line' }, windowText, ' ', whole, ' ', hiddenText,
       h('span', { class: 'small hint' }, 'Drag across the chart to choose the fit window. No reading is deleted.')));
 
-  // The two charts share what the panel's other rows leave free, three parts to one.
+  // The two charts share what the panel's other rows leave free, seven parts to three.
   let sized = '';
   const resize = () => {
     const w = Math.max(320, Math.floor(mainEl.clientWidth));
@@ -84,7 +84,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
     const key = `${w}x${free}`;
     if (key === sized) return; // a resize of our own making: nothing to do
     sized = key;
-    chart.resize(w, Math.round(free * 0.74), Math.round(free * 0.26));
+    chart.resize(w, Math.round(free * 0.7), Math.round(free * 0.3));
   };
   new ResizeObserver(() => { resize(); onResize(); }).observe(element);
 
