@@ -23,8 +23,9 @@ import { fitZeroOrder, zeroOrderLaw } from './models/zeroOrder';
 import { firstOrderLaw, fitFirstOrder } from './models/firstOrder';
 import { fitSecondOrder, secondOrderLaw } from './models/secondOrder';
 import { fitNthOrder, nthOrderLaw } from './models/nthOrder';
-import { binMean } from './models/fitStatistics';
-import { A0, K, ORDER } from './models/modelTypes';
+import { binMean, finishFit } from './models/fitStatistics';
+import { fractionConvertedAt } from './halfLife';
+import { K, ORDER } from './models/modelTypes';
 import { buildReport, emptyReport, type ReportInput } from './analysisReport';
 import { StopAdvisor } from './stopAdvice';
 
@@ -35,6 +36,13 @@ export const FIRST_REFIT_AT = 6;
 export const TAIL_MAX = 768;
 export const TAIL_KEEP = 256;
 export const OUTLIER_Z = 5;
+/**
+ * Fraction converted (first order) before the n-th order model is fitted: as for the
+ * verdict, orders cannot be told apart before one half-life, and below it the search
+ * for n only wanders along a flat valley (and costs most of a refit).
+ */
+export const NTH_MIN_FRACTION = 0.5;
+const NTH_MIN_READINGS = 20;
 /** Screening needs enough tail readings for a robust scale. */
 const OUTLIER_MIN_TAIL = 20;
 
@@ -185,24 +193,37 @@ export class RunAnalyzer implements RunAnalyzerLike {
       secondStart[K] = first.params[K] / (Math.LN2 * Math.max(first.params[1] - first.params[2], 1e-9));
     }
     const second = fitSecondOrder(s, { ...base, previous: secondStart });
-    // n-th order: warm start, else from the best integer order (n = 0.05, 1.01 or 2);
-    // if that fails or collapses, the other integer starts, keeping the lowest χ².
+    const nth = this.fitNth(s, base, zero, first, second);
+    return { zero, first, second, nth };
+  }
+
+  /**
+   * n-th order: only past NTH_MIN_FRACTION converted; warm start, else from the best
+   * integer order (n = 0.05, 1.01 or 2), and if that fails from the next best.
+   */
+  private fitNth(s: FitSeries, base: { fixedAInf?: number; aInfMin: number }, zero: ModelFit, first: ModelFit, second: ModelFit): ModelFit {
+    const tauLast = this.time[this.winFirst + this.winCount - 1] - this.origin_s;
+    const f = first.ok ? fractionConvertedAt('first', first.params, tauLast) : null;
+    if (f === null || f < NTH_MIN_FRACTION || s.readings < NTH_MIN_READINGS) {
+      const held = finishFit('nth', nthOrderLaw, s, new Float64Array(4).fill(Number.NaN), [false, false, false, false], false,
+        [`n-th order: not fitted below ${100 * NTH_MIN_FRACTION}% converted; the order cannot be told yet`]);
+      return held;
+    }
     const starts: Float64Array[] = [];
     if (this.previous.nth) starts.push(this.previous.nth);
-    const integer = [zero, first, second].filter((f) => f.ok).sort((a, b) => a.aicc - b.aicc);
-    for (const f of integer) {
+    const integer = [zero, first, second].filter((x) => x.ok).sort((a, b) => a.aicc - b.aicc);
+    for (const x of integer) {
       const st = new Float64Array(4);
-      st.set(f.params);
-      st[ORDER] = f.model === 'zero' ? 0.05 : f.model === 'first' ? 1.01 : 2;
+      st.set(x.params);
+      st[ORDER] = x.model === 'zero' ? 0.05 : x.model === 'first' ? 1.01 : 2;
       starts.push(st);
     }
-    if (starts.length === 0) starts.push(Float64Array.from([0, 0, 0, 1.01]));
     let nth = fitNthOrder(s, { ...base, previous: starts[0] });
-    for (let j = 1; j < starts.length && !(nth.ok && nth.free[A0]); j++) {
+    for (let j = 1; j < Math.min(starts.length, 3) && !nth.ok; j++) {
       const alt = fitNthOrder(s, { ...base, previous: starts[j] });
       if (alt.ok && (!nth.ok || alt.chiSquare < nth.chiSquare)) nth = alt;
     }
-    return { zero, first, second, nth };
+    return nth;
   }
 
   private bestFit(fits: Record<ModelName, ModelFit>): ModelFit | null {

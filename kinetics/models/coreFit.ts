@@ -63,7 +63,7 @@ export function fitWithCore(
       out[2] = g[A0] + g[AINF];
       if (np > ORDER) out[3] = g[ORDER];
     },
-    options: { maxIterations: 100, tolerance: 1e-10 },
+    options: { maxIterations: 60, tolerance: 1e-10 },
   });
   const q = Float64Array.from(result.parameters.map((fp) => fp.value));
   const final = Float64Array.from(toP(q));

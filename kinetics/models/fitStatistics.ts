@@ -8,6 +8,7 @@ import type { ModelName } from '../analysisTypes';
 
 /** Prediction of a pseudo-point: the mean of f over its bin, f(τ̄) + ½ f''(τ̄) v. */
 export function binMean(law: RateLaw, tau_s: number, v: number, p: Float64Array): number {
+  if (v > 0 && law.binAverage) return law.binAverage(tau_s, v, p);
   const f = law.value(tau_s, p);
   return v > 0 ? f + 0.5 * law.curvature(tau_s, p) * v : f;
 }

@@ -72,4 +72,6 @@ export interface RateLaw {
   gradient(tau_s: number, p: Float64Array, out: Float64Array): void;
   /** f''(τ), for the bin-mean correction. */
   curvature(tau_s: number, p: Float64Array): number;
+  /** Mean of f over a bin with mean time τ̄ and time variance v, where f has a kink the curvature term cannot carry. */
+  binAverage?(tau_s: number, v: number, p: Float64Array): number;
 }

@@ -11,24 +11,21 @@ import { fitWithCore } from './coreFit';
 export const NTH_ORDER_MIN = 0;
 export const NTH_ORDER_MAX = 3;
 
-/** |1 − n| below this is treated as this far from 1, where the closed form would divide by ~0. */
-const NEAR_FIRST = 1e-4;
-
-function mOf(n: number): number {
-  const m = 1 - n;
-  if (Math.abs(m) >= NEAR_FIRST) return m;
-  return m < 0 ? -NEAR_FIRST : NEAR_FIRST;
-}
-
-// The reacting part at τ, computed once per call into module scratch (no object per
-// evaluation: this runs for every reading at every iteration).
-let rc = 0, rb = 0, rm = 0, rC = 0;
+// Written so that it is smooth through n = 1 (no special case, no kink an optimiser could
+// stall on): c = C·exp(L), L = ln(1 − m u)/m with u = k t C^(−m), which log1p evaluates
+// accurately for small m and which tends to −k t (first order) as m → 0.
+// The reacting part at τ goes into module scratch (no object per evaluation: this runs
+// for every reading at every iteration).
+let rc = 0, rL = 0, ru = 0, rm = 0, rC = 0, rq = 0;
 function reacting(tau: number, p: Float64Array): void {
   rC = Math.max(p[A0] - p[AINF], 0);
-  rm = mOf(p[ORDER]);
-  if (rC === 0) { rc = 0; rb = 0; return; }
-  rb = Math.pow(rC, rm) - rm * p[K] * tau;
-  rc = rb > 0 ? Math.pow(rb, 1 / rm) : 0;
+  rm = 1 - p[ORDER];
+  if (rC === 0) { rc = 0; return; }
+  ru = p[K] * tau * (rm === 0 ? 1 : Math.pow(rC, -rm));
+  rq = 1 - rm * ru; // = b / C^m
+  if (rq <= 0) { rc = 0; return; } // below first order the reactant is used up in finite time
+  rL = rm === 0 ? -ru : Math.log1p(-rm * ru) / rm;
+  rc = rC * Math.exp(rL);
 }
 
 export const nthOrderLaw: RateLaw = {
@@ -37,16 +34,19 @@ export const nthOrderLaw: RateLaw = {
   value: (tau, p) => { reacting(tau, p); return p[AINF] + rc; },
   gradient: (tau, p, out) => {
     reacting(tau, p);
-    const c = rc, b = rb, m = rm, C = rC;
-    if (c === 0 || C === 0) { out[K] = 0; out[A0] = 0; out[AINF] = 1; out[ORDER] = 0; return; }
-    // ln c = ln b / m: differentiate through b = C^m − m k t.
-    const cm = b + m * p[K] * tau; // C^m, already inside b
-    out[K] = (-c * tau) / b;
-    const dcdC = (c * cm) / (C * b);
+    if (rc === 0) { out[K] = 0; out[A0] = 0; out[AINF] = 1; out[ORDER] = 0; return; }
+    const c = rc, m = rm, u = ru, q = rq, C = rC;
+    out[K] = (-c * tau * (m === 0 ? 1 : Math.pow(C, -m))) / q;
+    const dcdC = c / (C * q);
     out[A0] = dcdC;
     out[AINF] = 1 - dcdC;
-    const dlnc_dm = -Math.log(b) / (m * m) + (cm * Math.log(C) - p[K] * tau) / (m * b);
-    out[ORDER] = -c * dlnc_dm; // n = 1 − m
+    // ∂L/∂m at fixed u: (−u/(1 − mu) − L)/m, by its series −u²/2 − 2mu³/3 − 3m²u⁴/4 where mu is small.
+    const mu = m * u;
+    const dLdm = Math.abs(mu) < 1e-3
+      ? -0.5 * u * u - (2 / 3) * m * u * u * u - 0.75 * m * m * u * u * u * u
+      : (-u / q - rL) / m;
+    const dcdm = c * (dLdm + (u * Math.log(C)) / q);
+    out[ORDER] = -dcdm; // n = 1 − m
   },
   curvature: (tau, p) => {
     // dc/dt = −k c^n, so d²c/dt² = n k² c^(2n−1).
