@@ -234,4 +234,59 @@ describe('bench service', () => {
     expect(rec.header.demo).toBe(true);
     await svc.dispose();
   }, 40_000);
+
+  it('stops the run with a one-line warning when the record cannot be written, keeping what was written', async () => {
+    const src = burstSource(100_000, 20);
+    let written = 0;
+    const svc = new BenchService({
+      host: 'web', dataDir: dir, defaultSpeed: 100, createSource: () => src, createAnalyzer: (o) => testAnalyzer(o), listPorts: async () => [],
+      openRecord: async (o) => {
+        const real = await openJournalSink(o);
+        return { ...real, path: real.path, reading: (r) => { if (++written > 150) throw new Error('no space left on device'); real.reading(r); } };
+      },
+    });
+    const events: BridgeEvent[] = [];
+    svc.subscribe((e) => events.push(e));
+    expect((await svc.handle({ type: 'start' })).ok).toBe(true);
+    await until(events, (e) => e.type === 'record' && e.status === 'closed');
+    const warning = events.find((e) => e.type === 'warning') as { message: string };
+    expect(warning.message).toMatch(/could not be written \(no space left on device\); the run was stopped/);
+    expect(warning.message).not.toContain('\n');
+    expect(svc.snapshot().phase).toBe('stopped');
+    const rec = readRunRecord(svc.snapshot().recordPath!);
+    expect(rec.readings.count).toBe(150);
+    expect((await svc.handle({ type: 'getState' })).ok).toBe(true);
+    await svc.dispose();
+  });
+
+  it('replays its own record by name through the real replay source: same readings, time zero carried over', async () => {
+    const first = createBenchService({ host: 'web', dataDir: dir, speed: 10_000 });
+    const ev1: BridgeEvent[] = [];
+    first.subscribe((e) => ev1.push(e));
+    await first.handle({ type: 'start' });
+    await until(ev1, (e) => e.type === 'record' && e.status === 'closed', 25_000);
+    const recorded = first.snapshot();
+    await first.dispose();
+
+    const second = createBenchService({ host: 'web', dataDir: dir });
+    const ev2: BridgeEvent[] = [];
+    second.subscribe((e) => ev2.push(e));
+    const file = recorded.recordPath!.split('/').pop()!;
+    expect((await second.handle({ type: 'chooseSource', source: { kind: 'replay', file, speed: 'max' } })).ok).toBe(true);
+    expect((await second.handle({ type: 'start' })).ok).toBe(true);
+    await until(ev2, (e) => e.type === 'record' && e.status === 'closed', 25_000);
+    const replayed = second.snapshot();
+    expect(replayed.pointCount).toBe(recorded.pointCount);
+    expect(replayed.demo).toBe(false);
+    const a = readRunRecord(recorded.recordPath!);
+    const b = readRunRecord(replayed.recordPath!);
+    expect(b.readings.count).toBe(a.readings.count);
+    expect(Array.from(b.readings.absorbance)).toEqual(Array.from(a.readings.absorbance));
+    expect(b.header.instrument.source).toBe('replay');
+    // the simulated instrument's clock starts at mixing (t = 0), before its first reading
+    expect(a.events.find((p) => p.event.ev === 'mixed')!.event.t).toBe(0);
+    expect(replayed.timeZero_s).toBe(-a.readings.t_s[0]!);
+    expect(b.events.find((p) => p.event.ev === 'mixed')!.event.t).toBe(0); // the replay keeps the record's device clock
+    await second.dispose();
+  }, 60_000);
 });

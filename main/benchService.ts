@@ -8,13 +8,14 @@
  * sent readings in batches and results at most 20 times a second.
  */
 import { join } from 'node:path';
+import type { RunEvent } from '../acquisition/runRecordFormat';
 import type { Reading, ReadingSource, SourceEvent } from '../acquisition/sourceTypes';
 import type { AnalyzerOptions, RunAnalyzerLike } from '../kinetics/analysisTypes';
 import {
   CONTRACT_VERSION, LIMITS, parseRequest,
   type AnyReply, type BenchState, type BridgeEvent, type BridgeRequest, type RejectCounts, type SampleDetails, type SourceChoice,
 } from './bridge/contract';
-import type { BenchDeps, RecordSink } from './bench/benchPorts';
+import type { BenchDeps, RecordEvent, RecordSink } from './bench/benchPorts';
 import { Outbox } from './bench/outbox';
 import { Refusal } from './bench/refusal';
 import { RunSeries } from './bench/runSeries';
@@ -36,6 +37,8 @@ export class BenchService {
   private unsubscribe: (() => void) | null = null;
   private analyzer: RunAnalyzerLike | null = null;
   private record: RecordSink | null = null;
+  private recordFailed = false;
+  private pendingMixedDevice_s: number | null = null;
   private replayPath: string | null = null;
   private firstDeviceTime_s: number | null = null;
   private lastHost_ms: number[] = [];
@@ -132,13 +135,13 @@ export class BenchService {
       case 'takeBlank': {
         await this.command({ type: 'takeBlank' }, 'take the blank');
         this.state.blankTaken = true;
-        this.record?.event({ ev: 'blank', t: this.deviceTime(), detail: 'blank taken' });
+        this.writeEvent({ ev: 'blank', t: this.deviceTime(), detail: 'blank taken' });
         return this.changed();
       }
       case 'setWavelength':
         if (this.source) await this.command({ type: 'setWavelength', wavelength_nm: req.wavelength_nm }, 'set the wavelength');
         this.state.wavelength_nm = req.wavelength_nm;
-        this.record?.event({ ev: 'meta', t: this.deviceTime(), details: this.state.sampleDetails, wavelength_nm: req.wavelength_nm });
+        this.writeEvent({ ev: 'meta', t: this.deviceTime(), details: this.state.sampleDetails, wavelength_nm: req.wavelength_nm });
         return this.changed();
       case 'start': await this.startRun(); return this.changed();
       case 'stop':
@@ -148,19 +151,19 @@ export class BenchService {
       case 'markEvent': {
         if (this.state.phase !== 'running') throw new Refusal('mark: events are marked during a run; start one first.');
         const at_s = this.runTime();
-        this.record?.event({ ev: 'mark', t: this.deviceTime(), note: req.note });
+        this.writeEvent({ ev: 'mark', t: this.deviceTime(), note: req.note });
         return { at_s };
       }
       case 'mixed': {
         if (this.state.phase !== 'running') throw new Refusal('mixed: time zero is set during a run; start one first.');
         this.state.timeZero_s = this.runTime() ?? 0;
-        this.record?.event({ ev: 'mixed', t: this.deviceTime() });
+        this.writeEvent({ ev: 'mixed', t: this.deviceTime() });
         this.rebuildAnalyzer();
         return this.changed();
       }
       case 'setSampleDetails':
         this.state.sampleDetails = { ...this.state.sampleDetails, ...req.details };
-        this.record?.event({ ev: 'meta', t: this.deviceTime(), details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm });
+        this.writeEvent({ ev: 'meta', t: this.deviceTime(), details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm });
         return this.changed();
       case 'setFitWindow':
         this.state.fitWindow = { ...req.window };
@@ -221,7 +224,11 @@ export class BenchService {
   private async openSource(): Promise<void> {
     try {
       const source = await this.deps.createSource(this.state.source, this.replayPath);
-      this.unsubscribe = source.on((e) => this.onSourceEvent(e));
+      const offs = [source.on((e) => this.onSourceEvent(e))];
+      // A replayed record's own events: its time zero and its marks carry over into the new record.
+      const replay = source as ReadingSource & { onRecorded?: (l: (e: RunEvent) => void) => () => void };
+      if (typeof replay.onRecorded === 'function') offs.push(replay.onRecorded((e) => this.onRecordedEvent(e)));
+      this.unsubscribe = () => { for (const off of offs) off(); };
       this.source = source;
       await source.open();
     } catch (err) {
@@ -252,7 +259,7 @@ export class BenchService {
       case 'status':
         this.state.sourceStatus = e.status;
         this.emit({ type: 'sourceStatus', status: e.status });
-        this.record?.event({ ev: 'status', t: this.deviceTime(), status: e.status });
+        this.writeEvent({ ev: 'status', t: this.deviceTime(), status: e.status });
         if (e.status.kind === 'ended' && this.state.phase === 'running') {
           const detail = e.status.detail;
           this.busy = this.busy.then(() => this.stopRun('sourceEnded', detail)).then(() => this.changed(), () => undefined);
@@ -264,18 +271,18 @@ export class BenchService {
         this.outbox.otherChanged();
         break;
       case 'gap':
-        this.record?.event({ ev: 'gap', t: this.deviceTime(), from_ms: e.from_ms, to_ms: e.to_ms, reason: e.reason });
+        this.writeEvent({ ev: 'gap', t: this.deviceTime(), from_ms: e.from_ms, to_ms: e.to_ms, reason: e.reason });
         this.warn(`no readings for ${((e.to_ms - e.from_ms) / 1000).toFixed(1)} s (${e.reason}); the run goes on.`);
         break;
       case 'warning':
-        this.record?.event({ ev: 'warning', t: this.deviceTime(), message: e.message });
+        this.writeEvent({ ev: 'warning', t: this.deviceTime(), message: e.message });
         this.warn(e.message);
         break;
       case 'blank': {
         const b = e.blank;
         this.state.blankTaken = true;
         const noise = b.noise_AU === null ? '' : `, noise ${b.noise_AU.toExponential(1)} AU`;
-        this.record?.event({ ev: 'blank', t: b.deviceTime_s, detail: `blank of ${b.points} readings at ${b.wavelength_nm} nm${noise}`, noise_AU: b.noise_AU, drift_AUperMin: b.drift_AUperMin });
+        this.writeEvent({ ev: 'blank', t: b.deviceTime_s, detail: `blank of ${b.points} readings at ${b.wavelength_nm} nm${noise}`, noise_AU: b.noise_AU, drift_AUperMin: b.drift_AUperMin });
         for (const w of b.warnings) this.warn(w);
         this.changed();
         break;
@@ -284,14 +291,40 @@ export class BenchService {
     }
   }
 
+  private onRecordedEvent(e: RunEvent): void {
+    if (this.state.phase !== 'running') return;
+    if (e.ev === 'mixed' && e.t !== null) {
+      this.pendingMixedDevice_s = e.t;
+      if (this.firstDeviceTime_s !== null) this.applyRecordedMixed();
+    } else if (e.ev === 'mark') {
+      this.writeEvent({ ev: 'mark', t: e.t, note: e.note });
+    }
+  }
+
+  /** Time zero from a replayed record, on this run's clock, once the clock's origin is known. */
+  private applyRecordedMixed(): void {
+    if (this.pendingMixedDevice_s === null || this.firstDeviceTime_s === null) return;
+    // May be negative: the record's mixing came before its first reading.
+    this.state.timeZero_s = this.pendingMixedDevice_s - this.firstDeviceTime_s;
+    this.pendingMixedDevice_s = null;
+    this.writeEvent({ ev: 'mixed', t: this.state.timeZero_s + this.firstDeviceTime_s });
+    this.rebuildAnalyzer();
+    this.changed();
+  }
+
   private onReading(r: Reading): void {
     if (this.state.phase !== 'running' || !Number.isFinite(r.absorbance) || !Number.isFinite(r.deviceTime_s)) return;
-    if (this.firstDeviceTime_s === null) this.firstDeviceTime_s = r.deviceTime_s;
+    if (this.firstDeviceTime_s === null) {
+      this.firstDeviceTime_s = r.deviceTime_s;
+      this.applyRecordedMixed();
+    }
     const t = r.deviceTime_s - this.firstDeviceTime_s;
     this.series.push(t, r.absorbance, r.flags);
-    this.record?.reading(r);
+    this.write((rec) => rec.reading(r));
     this.lastHost_ms.push(this.now_ms());
     if (this.lastHost_ms.length > 64) this.lastHost_ms.splice(0, 32);
+    // The reading reaches the operating system before the analysis step that may hold the thread.
+    this.write((rec) => rec.release());
     this.feed(t, r.absorbance);
     this.outbox.readingsAvailable(this.series.length);
   }
@@ -317,11 +350,19 @@ export class BenchService {
     this.state.timeZero_s = simulated ? 0 : null;
     this.state.fitWindow = { from_s: null, to_s: null };
     const path = join(this.deps.dataDir, recordFileName(runId));
-    this.record = await this.deps.openRecord({
-      path, started, details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm,
-      source: this.state.source, demo: this.state.demo,
-    });
+    try {
+      this.record = await this.deps.openRecord({
+        path, started, details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm,
+        source: this.state.source, demo: this.state.demo,
+      });
+    } catch (err) {
+      this.state.runId = null;
+      throw new Refusal(`start: the run record could not be created (${oneLine(err)}); check the runs folder ${this.deps.dataDir}.`);
+    }
     this.state.recordPath = path;
+    this.recordFailed = false;
+    this.pendingMixedDevice_s = null;
+    if (simulated) this.writeEvent({ ev: 'mixed', t: 0 });
     this.rebuildAnalyzer();
     this.state.phase = 'running';
     this.emit({ type: 'record', path, status: 'open' });
@@ -349,7 +390,11 @@ export class BenchService {
     const record = this.record;
     this.record = null;
     if (record) {
-      await record.close({ reason, detail, rejected: { ...this.state.rejected } });
+      try {
+        await record.close({ reason, detail, rejected: { ...this.state.rejected } });
+      } catch (err) {
+        this.warn(`the record ${record.path} could not be closed cleanly (${oneLine(err)}); it will be recovered when opened.`);
+      }
       this.emit({ type: 'record', path: record.path, status: 'closed' });
     }
   }
@@ -364,6 +409,27 @@ export class BenchService {
     if (n === 0) return this.state.phase === 'running' ? 0 : null;
     const lastHost = this.lastHost_ms[this.lastHost_ms.length - 1] ?? this.now_ms();
     return this.series.time_s[n - 1]! + (this.now_ms() - lastHost) / 1000;
+  }
+
+  /**
+   * Every write to the record goes through here: a write that fails (disk full, folder
+   * gone) stops the run at once with a one-line message; what was written stays on disk.
+   */
+  private write(fn: (record: RecordSink) => void): void {
+    const record = this.record;
+    if (!record) return;
+    try {
+      fn(record);
+    } catch (err) {
+      if (this.recordFailed) return;
+      this.recordFailed = true;
+      this.warn(`the record ${record.path} could not be written (${oneLine(err)}); the run was stopped, and every reading written before is kept.`);
+      this.busy = this.busy.then(() => this.stopRun('error', oneLine(err))).then(() => this.changed(), () => undefined);
+    }
+  }
+
+  private writeEvent(event: RecordEvent): void {
+    this.write((rec) => rec.event(event));
   }
 
   /** Device time now, for the record's events (null before the first reading). */

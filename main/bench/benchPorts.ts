@@ -13,9 +13,14 @@ export interface RecordSink {
   readonly path: string;
   /** A reading as the source gave it (device time). */
   reading(reading: Reading): void;
+  /** Hand what is buffered to the operating system before a possibly long analysis step. */
+  release(): void;
   /** Event times `t` are device times (s), like the readings'; null when no reading has come yet. */
   event(event: RecordEvent): void;
-  /** Writes the stop and end lines and closes the file; every reading written before is kept. */
+  /**
+   * Writes the stop and end lines and closes the file; every reading written before is kept.
+   * After a failed write, closes the file as it is (no end line: the reader recovers it).
+   */
   close(stop: { reason: 'user' | 'sourceEnded' | 'error'; detail: string; rejected: Record<string, number> }): Promise<void>;
 }
 

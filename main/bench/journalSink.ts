@@ -54,6 +54,7 @@ export async function openJournalSink(o: RecordOpening, now_ms: () => number = (
   return {
     path: o.path,
     reading: (r) => journal.reading(r),
+    release: () => journal.release(),
     event(e: RecordEvent) {
       switch (e.ev) {
         case 'blank': journal.event({ ev: 'blank', h: h(), t: e.t, detail: e.detail, noise_AU: e.noise_AU ?? null, drift_AUperMin: e.drift_AUperMin ?? null }); break;
@@ -66,8 +67,13 @@ export async function openJournalSink(o: RecordOpening, now_ms: () => number = (
       }
     },
     async close(stop) {
-      journal.event({ ev: 'stop', h: h(), t: null, reason: stop.reason, detail: stop.detail });
-      journal.close(stop.rejected);
+      try {
+        journal.event({ ev: 'stop', h: h(), t: null, reason: stop.reason, detail: stop.detail || stop.reason });
+        journal.close(stop.rejected);
+      } catch (err) {
+        journal.abandon();
+        throw err;
+      }
     },
   };
 }
