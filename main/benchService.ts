@@ -10,46 +10,46 @@
 import { join } from 'node:path';
 import type { RunEvent } from '../acquisition/runRecordFormat';
 import type { Reading, ReadingSource, SourceEvent } from '../acquisition/sourceTypes';
-import type { AnalyzerOptions, RunAnalyzerLike } from '../kinetics/analysisTypes';
 import {
   CONTRACT_VERSION, LIMITS, parseRequest,
   type AnyReply, type BenchState, type BridgeEvent, type BridgeRequest, type RejectCounts, type SampleDetails, type SourceChoice,
 } from './bridge/contract';
-import type { BenchDeps, RecordEvent, RecordSink } from './bench/benchPorts';
+import type { BenchDeps } from './bench/benchPorts';
 import { Outbox } from './bench/outbox';
-import { Refusal } from './bench/refusal';
-import { RunSeries } from './bench/runSeries';
+import { RecordWriter } from './bench/recordWriter';
+import { Refusal, oneLine } from './bench/refusal';
+import { RunData, analyzerOptions } from './bench/runData';
 import { emptyRejectCounts, newRunId, recordFileName, sourceLabel } from './bench/runNaming';
 import { exportCsv } from './bench/runExport';
 import { listRecordFiles, resolveRecordName } from './bench/runsFolder';
 
 type Listener = (event: BridgeEvent) => void;
 
-
 const DEFAULT_ANALYSIS = { targetHalfLives: 3, precision: 0.05, weighted: true, robust: true };
 
 export class BenchService {
   private readonly listeners = new Set<Listener>();
   private readonly now_ms: () => number;
-  private readonly series = new RunSeries();
+  private readonly run: RunData;
+  private readonly record: RecordWriter;
   private readonly outbox: Outbox;
   private source: ReadingSource | null = null;
   private unsubscribe: (() => void) | null = null;
-  private analyzer: RunAnalyzerLike | null = null;
-  private record: RecordSink | null = null;
-  private recordFailed = false;
   private pendingMixedDevice_s: number | null = null;
   private replayPath: string | null = null;
-  private firstDeviceTime_s: number | null = null;
-  private lastHost_ms: number[] = [];
   private lastRejected: { reason: keyof RejectCounts; line: string } | null = null;
   private busy: Promise<unknown> = Promise.resolve();
   private readonly state: BenchState;
 
   constructor(private readonly deps: BenchDeps) {
     this.now_ms = deps.now_ms ?? (() => performance.now());
+    this.run = new RunData(deps.createAnalyzer, this.now_ms);
+    this.record = new RecordWriter((message, detail) => {
+      this.warn(message);
+      this.busy = this.busy.then(() => this.stopRun('error', detail)).then(() => this.changed(), () => undefined);
+    });
     this.outbox = new Outbox({
-      flushReadings: (from, to) => this.emit(this.readingsEvent(from, to)),
+      flushReadings: (from, to) => this.emit(this.run.batch(this.state.runId ?? '', from, to)),
       analyse: () => this.analyse(),
       flushOther: () => {
         if (this.lastRejected) this.emit({ type: 'rejected', counts: { ...this.state.rejected }, ...this.lastRejected });
@@ -79,13 +79,12 @@ export class BenchService {
     listener({ type: 'state', state: this.snapshot() });
     const runId = this.state.runId;
     if (!runId) return;
-    for (let from = 0; from < this.series.length; from += LIMITS.maxBatchPoints) {
-      const to = Math.min(this.series.length, from + LIMITS.maxBatchPoints);
-      listener(this.readingsEvent(from, to));
-    }
-    if (this.analyzer) {
+    const n = this.run.count;
+    for (let from = 0; from < n; from += LIMITS.maxBatchPoints) listener(this.run.batch(runId, from, Math.min(n, from + LIMITS.maxBatchPoints)));
+    if (this.run.analysing) {
       try {
-        listener({ type: 'analysis', runId, atCount: this.series.length, result: this.analyzer.result() });
+        const result = this.run.result();
+        if (result) listener({ type: 'analysis', runId, atCount: n, result });
       } catch {
         // the next throttled result will carry it
       }
@@ -93,7 +92,10 @@ export class BenchService {
   }
 
   snapshot(): BenchState {
-    return structuredClone({ ...this.state, pointCount: this.series.length, readingRate_perSecond: this.readingRate() });
+    return structuredClone({
+      ...this.state, timeZero_s: this.state.runId ? this.run.timeZero_s : null,
+      pointCount: this.run.count, readingRate_perSecond: this.run.rate(),
+    });
   }
 
   /** One request from the screen, untrusted. Requests run one at a time, in order. */
@@ -135,13 +137,13 @@ export class BenchService {
       case 'takeBlank': {
         await this.command({ type: 'takeBlank' }, 'take the blank');
         this.state.blankTaken = true;
-        this.writeEvent({ ev: 'blank', t: this.deviceTime(), detail: 'blank taken' });
+        this.record.event({ ev: 'blank', t: this.run.deviceTimeNow(), detail: 'blank taken' });
         return this.changed();
       }
       case 'setWavelength':
         if (this.source) await this.command({ type: 'setWavelength', wavelength_nm: req.wavelength_nm }, 'set the wavelength');
         this.state.wavelength_nm = req.wavelength_nm;
-        this.writeEvent({ ev: 'meta', t: this.deviceTime(), details: this.state.sampleDetails, wavelength_nm: req.wavelength_nm });
+        this.record.event({ ev: 'meta', t: this.run.deviceTimeNow(), details: this.state.sampleDetails, wavelength_nm: req.wavelength_nm });
         return this.changed();
       case 'start': await this.startRun(); return this.changed();
       case 'stop':
@@ -150,20 +152,19 @@ export class BenchService {
         return this.changed();
       case 'markEvent': {
         if (this.state.phase !== 'running') throw new Refusal('mark: events are marked during a run; start one first.');
-        const at_s = this.runTime();
-        this.writeEvent({ ev: 'mark', t: this.deviceTime(), note: req.note });
-        return { at_s };
+        this.record.event({ ev: 'mark', t: this.run.deviceTimeNow(), note: req.note });
+        return { at_s: this.run.runTimeNow() };
       }
       case 'mixed': {
         if (this.state.phase !== 'running') throw new Refusal('mixed: time zero is set during a run; start one first.');
-        this.state.timeZero_s = this.runTime() ?? 0;
-        this.writeEvent({ ev: 'mixed', t: this.deviceTime() });
+        this.run.timeZero_s = this.run.runTimeNow();
+        this.record.event({ ev: 'mixed', t: this.run.deviceTimeNow() });
         this.rebuildAnalyzer();
         return this.changed();
       }
       case 'setSampleDetails':
         this.state.sampleDetails = { ...this.state.sampleDetails, ...req.details };
-        this.writeEvent({ ev: 'meta', t: this.deviceTime(), details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm });
+        this.record.event({ ev: 'meta', t: this.run.deviceTimeNow(), details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm });
         return this.changed();
       case 'setFitWindow':
         this.state.fitWindow = { ...req.window };
@@ -185,7 +186,7 @@ export class BenchService {
         return { path, state: this.changed() };
       }
       case 'saveExport': {
-        if (this.series.length === 0) throw new Refusal('export: there is no run to export yet; record or replay one first.');
+        if (this.run.count === 0) throw new Refusal('export: there is no run to export yet; record or replay one first.');
         const name = `${this.state.runId ?? 'run'}.csv`;
         const path = this.deps.dialogs
           ? await this.deps.dialogs.chooseExportPath(name)
@@ -259,7 +260,7 @@ export class BenchService {
       case 'status':
         this.state.sourceStatus = e.status;
         this.emit({ type: 'sourceStatus', status: e.status });
-        this.writeEvent({ ev: 'status', t: this.deviceTime(), status: e.status });
+        this.record.event({ ev: 'status', t: this.run.deviceTimeNow(), status: e.status });
         if (e.status.kind === 'ended' && this.state.phase === 'running') {
           const detail = e.status.detail;
           this.busy = this.busy.then(() => this.stopRun('sourceEnded', detail)).then(() => this.changed(), () => undefined);
@@ -271,18 +272,18 @@ export class BenchService {
         this.outbox.otherChanged();
         break;
       case 'gap':
-        this.writeEvent({ ev: 'gap', t: this.deviceTime(), from_ms: e.from_ms, to_ms: e.to_ms, reason: e.reason });
+        this.record.event({ ev: 'gap', t: this.run.deviceTimeNow(), from_ms: e.from_ms, to_ms: e.to_ms, reason: e.reason });
         this.warn(`no readings for ${((e.to_ms - e.from_ms) / 1000).toFixed(1)} s (${e.reason}); the run goes on.`);
         break;
       case 'warning':
-        this.writeEvent({ ev: 'warning', t: this.deviceTime(), message: e.message });
+        this.record.event({ ev: 'warning', t: this.run.deviceTimeNow(), message: e.message });
         this.warn(e.message);
         break;
       case 'blank': {
         const b = e.blank;
         this.state.blankTaken = true;
         const noise = b.noise_AU === null ? '' : `, noise ${b.noise_AU.toExponential(1)} AU`;
-        this.writeEvent({ ev: 'blank', t: b.deviceTime_s, detail: `blank of ${b.points} readings at ${b.wavelength_nm} nm${noise}`, noise_AU: b.noise_AU, drift_AUperMin: b.drift_AUperMin });
+        this.record.event({ ev: 'blank', t: b.deviceTime_s, detail: `blank of ${b.points} readings at ${b.wavelength_nm} nm${noise}`, noise_AU: b.noise_AU, drift_AUperMin: b.drift_AUperMin });
         for (const w of b.warnings) this.warn(w);
         this.changed();
         break;
@@ -295,38 +296,34 @@ export class BenchService {
     if (this.state.phase !== 'running') return;
     if (e.ev === 'mixed' && e.t !== null) {
       this.pendingMixedDevice_s = e.t;
-      if (this.firstDeviceTime_s !== null) this.applyRecordedMixed();
+      this.applyRecordedMixed();
     } else if (e.ev === 'mark') {
-      this.writeEvent({ ev: 'mark', t: e.t, note: e.note });
+      this.record.event({ ev: 'mark', t: e.t, note: e.note });
     }
   }
 
   /** Time zero from a replayed record, on this run's clock, once the clock's origin is known. */
   private applyRecordedMixed(): void {
-    if (this.pendingMixedDevice_s === null || this.firstDeviceTime_s === null) return;
+    const origin = this.run.origin_s;
+    if (this.pendingMixedDevice_s === null || origin === null) return;
     // May be negative: the record's mixing came before its first reading.
-    this.state.timeZero_s = this.pendingMixedDevice_s - this.firstDeviceTime_s;
+    this.run.timeZero_s = this.pendingMixedDevice_s - origin;
+    this.record.event({ ev: 'mixed', t: this.pendingMixedDevice_s });
     this.pendingMixedDevice_s = null;
-    this.writeEvent({ ev: 'mixed', t: this.state.timeZero_s + this.firstDeviceTime_s });
     this.rebuildAnalyzer();
     this.changed();
   }
 
   private onReading(r: Reading): void {
     if (this.state.phase !== 'running' || !Number.isFinite(r.absorbance) || !Number.isFinite(r.deviceTime_s)) return;
-    if (this.firstDeviceTime_s === null) {
-      this.firstDeviceTime_s = r.deviceTime_s;
-      this.applyRecordedMixed();
-    }
-    const t = r.deviceTime_s - this.firstDeviceTime_s;
-    this.series.push(t, r.absorbance, r.flags);
-    this.write((rec) => rec.reading(r));
-    this.lastHost_ms.push(this.now_ms());
-    if (this.lastHost_ms.length > 64) this.lastHost_ms.splice(0, 32);
+    const first = this.run.origin_s === null;
+    const t = this.run.place(r.deviceTime_s, r.absorbance, r.flags);
+    if (first) this.applyRecordedMixed();
+    this.record.write((rec) => rec.reading(r));
     // The reading reaches the operating system before the analysis step that may hold the thread.
-    this.write((rec) => rec.release());
-    this.feed(t, r.absorbance);
-    this.outbox.readingsAvailable(this.series.length);
+    this.record.write((rec) => rec.release());
+    this.run.feed(t, r.absorbance);
+    this.outbox.readingsAvailable(this.run.count);
   }
 
   // ------------------------------------------------------------ run
@@ -340,29 +337,25 @@ export class BenchService {
     else await this.connect();
     const started = new Date();
     const runId = newRunId(started);
-    this.series.clear();
     this.outbox.reset();
     // The simulated instrument's clock starts at mixing; other sources' run clock starts at their first reading.
     const simulated = this.state.source.kind === 'simulated';
-    this.firstDeviceTime_s = simulated ? 0 : null;
-    this.lastHost_ms = [];
+    this.run.reset(simulated ? 0 : null, simulated ? 0 : null);
     this.state.runId = runId;
-    this.state.timeZero_s = simulated ? 0 : null;
     this.state.fitWindow = { from_s: null, to_s: null };
     const path = join(this.deps.dataDir, recordFileName(runId));
     try {
-      this.record = await this.deps.openRecord({
+      this.record.open(await this.deps.openRecord({
         path, started, details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm,
         source: this.state.source, demo: this.state.demo,
-      });
+      }));
     } catch (err) {
       this.state.runId = null;
       throw new Refusal(`start: the run record could not be created (${oneLine(err)}); check the runs folder ${this.deps.dataDir}.`);
     }
     this.state.recordPath = path;
-    this.recordFailed = false;
     this.pendingMixedDevice_s = null;
-    if (simulated) this.writeEvent({ ev: 'mixed', t: 0 });
+    if (simulated) this.record.event({ ev: 'mixed', t: 0 });
     this.rebuildAnalyzer();
     this.state.phase = 'running';
     this.emit({ type: 'record', path, status: 'open' });
@@ -387,84 +380,28 @@ export class BenchService {
     this.state.phase = 'stopped';
     if (reason !== 'sourceEnded') await this.source?.command({ type: 'stop' }).catch(() => undefined);
     this.outbox.drain();
-    const record = this.record;
-    this.record = null;
-    if (record) {
-      try {
-        await record.close({ reason, detail, rejected: { ...this.state.rejected } });
-      } catch (err) {
-        this.warn(`the record ${record.path} could not be closed cleanly (${oneLine(err)}); it will be recovered when opened.`);
-      }
-      this.emit({ type: 'record', path: record.path, status: 'closed' });
-    }
+    const path = await this.record.close({ reason, detail, rejected: { ...this.state.rejected } }, (m) => this.warn(m));
+    if (path) this.emit({ type: 'record', path, status: 'closed' });
   }
 
   private notWhileRunning(what: string): void {
     if (this.state.phase === 'running') throw new Refusal(`cannot ${what} during a run; stop the run first.`);
   }
 
-  /** Run-clock time now: the last reading's time plus the host time since it arrived. */
-  private runTime(): number | null {
-    const n = this.series.length;
-    if (n === 0) return this.state.phase === 'running' ? 0 : null;
-    const lastHost = this.lastHost_ms[this.lastHost_ms.length - 1] ?? this.now_ms();
-    return this.series.time_s[n - 1]! + (this.now_ms() - lastHost) / 1000;
-  }
-
-  /**
-   * Every write to the record goes through here: a write that fails (disk full, folder
-   * gone) stops the run at once with a one-line message; what was written stays on disk.
-   */
-  private write(fn: (record: RecordSink) => void): void {
-    const record = this.record;
-    if (!record) return;
-    try {
-      fn(record);
-    } catch (err) {
-      if (this.recordFailed) return;
-      this.recordFailed = true;
-      this.warn(`the record ${record.path} could not be written (${oneLine(err)}); the run was stopped, and every reading written before is kept.`);
-      this.busy = this.busy.then(() => this.stopRun('error', oneLine(err))).then(() => this.changed(), () => undefined);
-    }
-  }
-
-  private writeEvent(event: RecordEvent): void {
-    this.write((rec) => rec.event(event));
-  }
-
-  /** Device time now, for the record's events (null before the first reading). */
-  private deviceTime(): number | null {
-    const t = this.runTime();
-    return t === null || this.firstDeviceTime_s === null ? null : t + this.firstDeviceTime_s;
-  }
-
   // ------------------------------------------------------------ analysis
-
-  private analyzerOptions(): AnalyzerOptions {
-    const o = this.state.analysisOptions;
-    const w = this.state.fitWindow;
-    return {
-      targetHalfLives: o.targetHalfLives, precision: o.precision, weighted: o.weighted, robust: o.robust,
-      ...(w.from_s !== null ? { from_s: w.from_s } : {}), ...(w.to_s !== null ? { to_s: w.to_s } : {}),
-    };
-  }
 
   /** A new analyzer over every point kept since time zero: the fits follow a changed window at once, no data is deleted. */
   private rebuildAnalyzer(): void {
-    this.analyzer = this.deps.createAnalyzer(this.analyzerOptions());
-    for (let i = 0; i < this.series.length; i++) this.feed(this.series.time_s[i]!, this.series.absorbance[i]!);
+    this.run.rebuild(analyzerOptions(this.state.analysisOptions, this.state.fitWindow));
     if (this.state.runId) this.outbox.requestAnalysis();
   }
 
-  private feed(runTime_s: number, absorbance: number): void {
-    const t0 = this.state.timeZero_s ?? 0;
-    if (this.analyzer && runTime_s >= t0) this.analyzer.add(runTime_s - t0, absorbance);
-  }
-
   private analyse(): void {
-    if (!this.analyzer || !this.state.runId) return;
+    const runId = this.state.runId;
+    if (!runId) return;
     try {
-      this.emit({ type: 'analysis', runId: this.state.runId, atCount: this.series.length, result: this.analyzer.result() });
+      const result = this.run.result();
+      if (result) this.emit({ type: 'analysis', runId, atCount: this.run.count, result });
     } catch (err) {
       this.warn(`the analysis failed on this run (${oneLine(err)}); the readings are still recorded.`);
     }
@@ -474,28 +411,12 @@ export class BenchService {
 
   private exportInput(): Parameters<typeof exportCsv>[1] {
     let result = null;
-    try { result = this.analyzer?.result() ?? null; } catch { result = null; }
+    try { result = this.run.result(); } catch { result = null; }
     return {
       runId: this.state.runId ?? 'run', demo: this.state.demo, sourceLabel: this.state.sourceLabel,
-      details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm, timeZero_s: this.state.timeZero_s ?? 0,
-      series: this.series, result,
+      details: this.state.sampleDetails, wavelength_nm: this.state.wavelength_nm, timeZero_s: this.run.timeZero_s ?? 0,
+      series: this.run.series, result,
     };
-  }
-
-  private readingsEvent(from: number, to: number): BridgeEvent {
-    return {
-      type: 'readings', runId: this.state.runId ?? '', fromIndex: from,
-      time_s: Array.from(this.series.time_s.subarray(from, to)),
-      absorbance: Array.from(this.series.absorbance.subarray(from, to)),
-      flags: Array.from(this.series.flags.subarray(from, to)),
-    };
-  }
-
-  private readingRate(): number | null {
-    const h = this.lastHost_ms;
-    if (h.length < 2) return null;
-    const span_ms = h[h.length - 1]! - h[0]!;
-    return span_ms > 0 ? ((h.length - 1) * 1000) / span_ms : null;
   }
 
   private warn(message: string): void {
@@ -513,11 +434,6 @@ export class BenchService {
       try { l(event); } catch { /* a broken listener must not stop the run */ }
     }
   }
-}
-
-function oneLine(err: unknown): string {
-  const s = err instanceof Error ? err.message : String(err);
-  return s.split('\n')[0]!.slice(0, 300);
 }
 
 function printable(line: string): string {

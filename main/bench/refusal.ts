@@ -6,3 +6,9 @@
 export class Refusal extends Error {
   override readonly name = 'Refusal';
 }
+
+/** The first line of an error's message, capped: what a user is shown. */
+export function oneLine(err: unknown): string {
+  const s = err instanceof Error ? err.message : String(err);
+  return s.split('\n')[0]!.slice(0, 300);
+}
