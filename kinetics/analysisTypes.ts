@@ -118,6 +118,9 @@ export interface AnalyzerOptions {
 /** The streaming analyzer's public face. */
 export interface RunAnalyzerLike {
   add(time_s: number, absorbance: number): void;
+  /** The last refit's report (refits come on a schedule set by the reading count). */
   result(): AnalysisResult;
+  /** Refit now if readings came in since the last refit (at the end of a run or a feed). */
+  flush?(): AnalysisResult;
   readonly count: number;
 }
