@@ -9,6 +9,8 @@ import { Journal, type JournalFs } from './journal';
 import { analysisSeries, readRunRecord } from './journalReader';
 import { Recorder } from './recorder';
 import { ReplaySource, timelineFromRecord, timelineFromSeries } from './replaySource';
+import { SimulatedSource } from './simulatedSource';
+import { defaultInstrumentSettings } from './simulatedInstrument';
 
 let dir: string;
 beforeEach(() => {
@@ -135,5 +137,30 @@ describe('recorder', () => {
     expect(outcome.reason).toBe('error');
     expect(outcome.error).toMatch(/^disk\.jsonl: could not write the run record \(the disk is full\); the record keeps the \d+ readings already saved\./);
     expect(journal.isClosed).toBe(true);
+  });
+
+  it('asks a counts device for the blank first and starts the run only once it is in', async () => {
+    const journal = newRecord('counts.jsonl');
+    const analyzer = new RunAnalyzer();
+    const source = new SimulatedSource({ instrument: defaultInstrumentSettings(DEMO_RUN, { sends: 'counts', seed: 4 }), speed: 'max' });
+    const recorder = new Recorder({ source, journal, analyzer, timeZero: { deviceTime_s: 0 }, maxRunSeconds: 400 });
+    await recorder.start();
+    expect(recorder.progress().phase).toBe('blank'); // the device said it sends counts: blank asked for
+    const outcome = await recorder.finished;
+    expect(outcome.reason).toBe('limit');
+    const rec = readRunRecord(journal.path);
+    const kinds = rec.events.map((e) => e.event.ev);
+    expect(kinds.indexOf('blank')).toBeGreaterThan(-1);
+    expect(kinds.indexOf('blank')).toBeLessThan(kinds.indexOf('mixed'));
+    const blank = rec.events.find((e) => e.event.ev === 'blank')!.event;
+    expect(blank).toMatchObject({ reference: { points: 5, wavelength_nm: 630 } });
+    // Every reading analysed came after the blank; the first after it is the first analysed.
+    const firstAnalysed = rec.readings.t_s[rec.events.find((e) => e.event.ev === 'mixed')!.index]!;
+    expect(firstAnalysed).toBeGreaterThan(blank.t!);
+    expect(analyzer.count).toBe(rec.readings.count);
+    // DEMO.md: k_obs = 3.5 × 10⁻³ s⁻¹ must lie in the 95% CI from counts turned into absorbance.
+    const ci = analyzer.flush().models.first.kCI95!;
+    expect(ci[0]).toBeLessThan(3.5e-3);
+    expect(ci[1]).toBeGreaterThan(3.5e-3);
   });
 });

@@ -295,14 +295,14 @@ export class Recorder {
   }
 
   private onReading(r: Reading): void {
-    if (this.phase === 'blank') return; // a counts device sends no absorbance until its blank is in
     if (r.wavelength_nm !== null && r.wavelength_nm !== this.wavelength_nm) {
       // The header holds the wavelength the run was set up with; a different one from the device is a change.
       this.journal.event({ ev: 'meta', h: this.h(), t: r.deviceTime_s, run: { wavelength_nm: r.wavelength_nm } });
       this.wavelength_nm = r.wavelength_nm;
     }
     const tz = this.timeZeroRule();
-    if (this.timeZero_s === null && tz !== 'manual') this.setTimeZero(tz === 'firstReading' ? r.deviceTime_s : tz.deviceTime_s);
+    // Readings during the blank (a device that sends them anyway) are kept, but the run has not begun.
+    if (this.timeZero_s === null && tz !== 'manual' && this.phase !== 'blank') this.setTimeZero(tz === 'firstReading' ? r.deviceTime_s : tz.deviceTime_s);
     const before = this.journal.progress().readings;
     this.journal.reading(r);
     if (this.journal.progress().readings === before) return; // left out (time backwards): not analysed either
