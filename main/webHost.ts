@@ -46,7 +46,7 @@ export interface WebHost {
 
 export const TOKEN_COOKIE = 'rateline_token';
 /** A client that cannot keep up (socket buffer past this) is disconnected rather than let memory grow. */
-const MAX_SOCKET_BUFFER_BYTES = 32 * 1024 * 1024;
+const MAX_SOCKET_BUFFER_BYTES = 64 * 1024 * 1024;
 
 export function contentSecurityPolicy(origin: string): string {
   const ws = origin.replace(/^http/, 'ws');
@@ -104,6 +104,11 @@ export async function startWebHost(opts: WebHostOptions): Promise<WebHost> {
     res.setHeader('cross-origin-opener-policy', 'same-origin');
     res.setHeader('cross-origin-resource-policy', 'same-origin');
     if (!authorised(req, url)) return refuse(res, 403, 'forbidden: open the address printed by "rateline serve", token included.');
+    // A browser names the page a write came from: none but our own may send one.
+    const from = req.headers.origin;
+    if (req.method !== 'GET' && req.method !== 'HEAD' && from !== undefined && !allowedOrigins.has(from)) {
+      return refuse(res, 403, 'forbidden: requests come from the Rateline page only.');
+    }
     if (tokenMatches(url.searchParams.get(TOKEN_PARAM), token)) {
       // The page's scripts and styles are fetched without the query; the cookie carries the token for them.
       res.setHeader('set-cookie', `${TOKEN_COOKIE}=${token}; HttpOnly; SameSite=Strict; Path=/`);
@@ -140,15 +145,16 @@ export async function startWebHost(opts: WebHostOptions): Promise<WebHost> {
 }
 
 function attachSocket(ws: WebSocket, service: BridgeService): void {
-  const send = (msg: ServerMessage): void => {
+  // The catch-up (a whole run so far) is sent at once and may pass the cap; live events may not.
+  const send = (msg: ServerMessage, catchingUp = false): void => {
     if (ws.readyState !== ws.OPEN) return;
-    if (ws.bufferedAmount > MAX_SOCKET_BUFFER_BYTES) {
+    if (!catchingUp && ws.bufferedAmount > MAX_SOCKET_BUFFER_BYTES) {
       ws.close(1013, 'the screen fell too far behind; reload the page');
       return;
     }
     ws.send(JSON.stringify(msg));
   };
-  service.catchUp((event) => send({ kind: 'event', event }));
+  service.catchUp((event) => send({ kind: 'event', event }, true));
   const unsubscribe = service.subscribe((event) => send({ kind: 'event', event }));
   ws.on('close', unsubscribe);
   ws.on('error', () => ws.terminate());

@@ -165,6 +165,8 @@ describe('web host security', () => {
     const post = (body: string, token = host.token): Promise<Response> =>
       fetch(`${host.origin}/api/request`, { method: 'POST', headers: { 'x-rateline-token': token, 'content-type': 'application/json' }, body });
     expect((await post('{"type":"getState"}', 'wrong')).status).toBe(403);
+    const foreign = await fetch(`${host.origin}/api/request`, { method: 'POST', headers: { 'x-rateline-token': host.token, origin: 'http://evil.example' }, body: '{"type":"getState"}' });
+    expect(foreign.status).toBe(403);
     expect((await post('{oops')).status).toBe(400);
     expect((await post(JSON.stringify({ type: 'markEvent', note: 'x'.repeat(LIMITS.maxRequestBytes) }))).status).toBe(413);
     const ok = await post('{"type":"getState"}');
