@@ -54,7 +54,7 @@ export function orderVerdict(e: EvidenceByOrder): Verdict {
   if (f === null || f < VERDICT_MIN_FRACTION) {
     return {
       order: 'undecided', weights,
-      reason: `only ${f === null ? 'an unknown part' : pct(f)} converted; orders cannot be told apart before one half-life (50%)`,
+      reason: `only ${f === null ? 'an unknown part' : pct(f)} converted (by the least of the three fits); orders cannot be told apart before one half-life (50%)`,
     };
   }
   if (wBest < VERDICT_MIN_WEIGHT) {
@@ -72,6 +72,6 @@ export function orderVerdict(e: EvidenceByOrder): Verdict {
   }
   return {
     order, weights,
-    reason: `${order} order: Akaike weight ${wBest.toFixed(3)} ≥ ${VERDICT_MIN_WEIGHT}, residuals random (runs test p = ${p.toPrecision(2)}), ${pct(f)} converted`,
+    reason: `${order} order: Akaike weight ${wBest.toFixed(3)} ≥ ${VERDICT_MIN_WEIGHT}, residuals random (runs test p = ${p.toPrecision(2)}), at least ${pct(f)} converted by every order's fit`,
   };
 }
