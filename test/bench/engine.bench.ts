@@ -45,8 +45,8 @@ function feedCost(n: number): { nsPerPoint: number; refits: number; maxGap: numb
   return { nsPerPoint: (ms * 1e6) / n, refits: an.refits, maxGap, an };
 }
 
-// Warm the JIT on a small run first, so the 1e3 figure is not the compiler's.
-feedCost(2000);
+// Warm the JIT on a few runs first, so the 1e3 figure is not the compiler's.
+for (let j = 0; j < 3; j++) feedCost(10000);
 const sizes = [1e3, 1e4, 1e5, 1e6];
 const costs = new Map<number, ReturnType<typeof feedCost>>();
 for (const n of sizes) {
