@@ -382,6 +382,11 @@ export class BenchService {
     this.outbox.drain();
     const path = await this.record.close({ reason, detail, rejected: { ...this.state.rejected } }, (m) => this.warn(m));
     if (path) this.emit({ type: 'record', path, status: 'closed' });
+    // The simulated instrument and a replay are made afresh for each run: nothing to keep open.
+    if (this.state.source.kind !== 'serial') {
+      await this.closeSource();
+      this.state.phase = 'stopped';
+    }
   }
 
   private notWhileRunning(what: string): void {
