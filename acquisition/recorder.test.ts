@@ -66,12 +66,12 @@ describe('recorder', () => {
     const again = new RunAnalyzer();
     const s = analysisSeries(rec);
     for (let i = 0; i < s.time_s.length; i++) again.add(s.time_s[i]!, s.absorbance[i]!);
-    expect(outcome.result.models.first.k).toBe(again.result().models.first.k);
+    expect(outcome.result!.models.first.k).toBe(again.result().models.first.k);
     // DEMO.md: k_obs = 3.5 × 10⁻³ s⁻¹; the run's 95% CI should hold it (a single seeded run, so a loose check).
-    const ci = outcome.result.models.first.kCI95!;
+    const ci = outcome.result!.models.first.kCI95!;
     expect(ci[0]).toBeLessThan(3.5e-3);
     expect(ci[1]).toBeGreaterThan(3.5e-3);
-    expect(Math.abs(outcome.result.models.first.k! - 3.5e-3)).toBeLessThan(1e-4);
+    expect(Math.abs(outcome.result!.models.first.k! - 3.5e-3)).toBeLessThan(1e-4);
   });
 
   it('stops at the run-time limit', async () => {
@@ -93,9 +93,9 @@ describe('recorder', () => {
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('advice');
-    expect(outcome.result.stop.suggested).toBe(true);
+    expect(outcome.result!.stop.suggested).toBe(true);
     const last = readRunRecord(journal.path).readings.t_s.at(-1)!;
-    expect(outcome.result.stop.atTime_s).toBe(last);
+    expect(outcome.result!.stop.atTime_s).toBe(last);
     // Three half-lives of ln2/k = 198 s (DEMO.md) is about 594 s: the stop cannot come before.
     expect(last).toBeGreaterThanOrEqual(3 * Math.LN2 / 3.5e-3 * 0.9);
     expect(last).toBeLessThan(1500);
@@ -162,5 +162,29 @@ describe('recorder', () => {
     const ci = analyzer.flush().models.first.kCI95!;
     expect(ci[0]).toBeLessThan(3.5e-3);
     expect(ci[1]).toBeGreaterThan(3.5e-3);
+  });
+
+  it('keeps recording when the analysis fails, with a warning in the record', async () => {
+    const journal = newRecord('analysis-fault.jsonl');
+    const real = new RunAnalyzer();
+    // Fault injection: an analyzer that breaks at the 50th reading.
+    const failing = {
+      get count() { return real.count; },
+      add(t: number, a: number) {
+        if (real.count === 49) throw new Error('injected fault');
+        real.add(t, a);
+      },
+      result: () => real.result(),
+    };
+    const recorder = new Recorder({ source: demoSource(200, false), journal, analyzer: failing, untilAdvice: true });
+    await recorder.start();
+    const outcome = await recorder.finished;
+    expect(outcome.reason).toBe('sourceEnded');
+    expect(outcome.readings).toBe(201);
+    const rec = readRunRecord(journal.path);
+    expect(rec.readings.count).toBe(201);
+    const warning = rec.events.find((e) => e.event.ev === 'warning')!.event as { message: string };
+    expect(warning.message).toMatch(/^the analysis failed at 49 s \(injected fault\); recording goes on/);
+    expect(real.count).toBe(49);
   });
 });

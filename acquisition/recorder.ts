@@ -13,63 +13,10 @@ import { performance } from 'node:perf_hooks';
 import type { AnalysisResult, RunAnalyzerLike } from '../kinetics/analysisTypes';
 import { JournalError, type Journal } from './journal';
 import { isoWithLocalOffset, type RunEvent } from './runRecordFormat';
+import type { RecorderOptions, RecorderOutcome, RecorderProgress, StopReason, TimeZero } from './recorderTypes';
 import type { DeviceIdentity, RejectReason, Reading, ReadingSource, SourceEvent, SourceStatus } from './sourceTypes';
 
-export type StopReason = 'user' | 'signal' | 'limit' | 'advice' | 'sourceEnded' | 'error';
-
-/**
- * Where time zero is: at the first reading (the headless default: the device is started
- * once the reagents are mixed), at a given device time (an instrument whose clock starts
- * at mixing, like the simulator), or when `markMixed()` is called.
- */
-export type TimeZero = 'firstReading' | { deviceTime_s: number } | 'manual';
-
-export interface RecorderOptions {
-  source: ReadingSource;
-  journal: Journal;
-  analyzer: RunAnalyzerLike;
-  timeZero?: TimeZero;
-  /** The wavelength written in the record's header, so that a device reading at another is recorded as a change. */
-  wavelength_nm?: number | null;
-  /** The device identity written in the header, if known, so that only a different one is recorded as a change. */
-  identity?: DeviceIdentity | null;
-  /** Stop after this many seconds of run time (from time zero). */
-  maxRunSeconds?: number;
-  /** Stop when the analyzer's advice says the run has gone far enough and settled. */
-  untilAdvice?: boolean;
-  /** How long to wait for a counts device's blank before giving up. Default 60 s. */
-  blankTimeout_ms?: number;
-  now_ms?: () => number;
-  wallClock?: () => Date;
-}
-
-export interface RecorderProgress {
-  phase: 'opening' | 'blank' | 'waitingForTimeZero' | 'recording' | 'stopped';
-  /** Readings handed to the journal, and the device time of the last. */
-  journalled: number;
-  lastDeviceTime_s: number | null;
-  /** Readings known to be on disk. */
-  synced: number;
-  /** Readings given to the analyzer (from time zero on) and the run time of the last. */
-  analysed: number;
-  runTime_s: number | null;
-  status: SourceStatus | null;
-  identity: DeviceIdentity | null;
-  rejected: Record<RejectReason, number>;
-  gaps: number;
-  warnings: number;
-  /** The latest warning if it came in the last 30 s (host time), else null. */
-  lastWarning: string | null;
-}
-
-export interface RecorderOutcome {
-  reason: StopReason;
-  detail: string;
-  /** Set when the record could not be written to the end: the one-line message. */
-  error: string | null;
-  readings: number;
-  result: AnalysisResult;
-}
+export type { RecorderOptions, RecorderOutcome, RecorderProgress, StopReason, TimeZero } from './recorderTypes';
 
 export class Recorder {
   private readonly source: ReadingSource;
@@ -92,6 +39,7 @@ export class Recorder {
   private warnings = 0;
   private lastWarning: string | null = null;
   private lastWarningAt_ms = -Infinity;
+  private analysisFault: string | null = null;
   private unsubscribe: Array<() => void> = [];
   private blankTimer: ReturnType<typeof setTimeout> | null = null;
   private stopping: Promise<RecorderOutcome> | null = null;
@@ -198,7 +146,7 @@ export class Recorder {
       detail: wasRecording === 'blank' && reason === 'error' ? `during the blank: ${detail}` : detail,
       error: writeError,
       readings: this.journal.progress().readings,
-      result: this.analyzer.result(),
+      result: safeResult(this.analyzer),
     };
     this.resolveFinished(outcome);
     return outcome;
@@ -313,14 +261,26 @@ export class Recorder {
     this.runTime_s = t;
     // A refit can hold the thread for longer than the commit interval; what is measured goes to the OS first.
     this.journal.release();
-    this.analyzer.add(t, r.absorbance);
+    this.analyse(t, r.absorbance);
     const max = this.opts.maxRunSeconds;
     if (max !== undefined && t >= max) {
       void this.stop('limit', `run time reached ${max} s`);
       return;
     }
-    if (this.opts.untilAdvice && this.analyzer.result().stop.suggested) {
-      void this.stop('advice', this.analyzer.result().stop.reason);
+    if (this.opts.untilAdvice && this.analysisFault === null) {
+      const advice = safeResult(this.analyzer)?.stop;
+      if (advice?.suggested) void this.stop('advice', advice.reason);
+    }
+  }
+
+  /** A fault of the analysis is a warning, not the end of the run: the readings keep going to the record. */
+  private analyse(t: number, absorbance: number): void {
+    if (this.analysisFault !== null) return;
+    try {
+      this.analyzer.add(t, absorbance);
+    } catch (err) {
+      this.analysisFault = err instanceof Error ? err.message : String(err);
+      this.warn(`the analysis failed at ${t} s (${this.analysisFault}); recording goes on without it, and rateline analyze can read the record afterwards`);
     }
   }
 
@@ -354,6 +314,15 @@ export class Recorder {
 
   private h(): number {
     return this.journal.hostOffset_ms(this.now());
+  }
+}
+
+function safeResult(analyzer: RunAnalyzerLike): AnalysisResult | null {
+  try {
+    return analyzer.result();
+  } catch {
+    // A fault of the analysis must not keep the recording from reporting that it stopped.
+    return null;
   }
 }
 

@@ -186,8 +186,13 @@ export async function run(argv: string[]): Promise<number> {
   process.on('SIGTERM', onTerm);
   const printProgress = (): void => {
     const p = recorder.progress();
-    const r = recorder.result();
-    say(progressMode === 'json' ? JSON.stringify(progressJson(p, r)) : formatProgress(p, r));
+    try {
+      const r = recorder.result();
+      say(progressMode === 'json' ? JSON.stringify(progressJson(p, r)) : formatProgress(p, r));
+    } catch (err) {
+      // A fault of the analysis must not stop the recording: the readings keep going to the record.
+      say(`${p.journalled} readings recorded; the analysis failed (${err instanceof Error ? err.message : String(err)}).`);
+    }
   };
   if (progressMode === 'text') {
     say(`rateline record: recording to ${out}${simulate ? ' from the simulated instrument (demo data)' : ` from ${o.port} at ${baud} baud`}; Ctrl-C stops and closes the record.`);
@@ -240,7 +245,8 @@ function describeStop(o: RecorderOutcome): string {
   }
 }
 
-function summary(r: AnalysisResult): string {
+function summary(r: AnalysisResult | null): string {
+  if (r === null) return 'the analysis failed on this run; the readings are all in the record (rateline analyze reads it).';
   const m = r.models[r.drivingModel];
   if (m.k === null || m.kCI95 === null) return `not enough data for a rate constant yet (${r.points} points).`;
   const half = (m.kCI95[1] - m.kCI95[0]) / 2;
