@@ -384,3 +384,16 @@ describe('release before analysis', () => {
     expect(parseRunRecord(fs.written, 'mem.jsonl').readings.count).toBe(60);
   });
 });
+
+describe('format evolution within version 1', () => {
+  it('ignores an unknown extra field in a known line but refuses an unknown event kind', () => {
+    const lines = [
+      JSON.stringify({ ...demoHeader(), futureField: 1 }),
+      '{"ev":"mark","h":0,"t":null,"note":"n","colour":"red"}',
+      '[0,0.5,0]',
+    ];
+    const rec = parseRunRecord(lines.join('\n') + '\n', 'v1.jsonl');
+    expect(rec.events[0]!.event).toEqual({ ev: 'mark', h: 0, t: null, note: 'n' });
+    expect(() => parseRunRecord([...lines, '{"ev":"stir","h":1,"t":null}'].join('\n') + '\n', 'v1.jsonl')).toThrow(/v1\.jsonl line 4: not a valid "stir" event/);
+  });
+});
