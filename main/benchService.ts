@@ -9,7 +9,7 @@
  */
 import { join } from 'node:path';
 import type { RunEvent } from '../acquisition/runRecordFormat';
-import type { Reading, ReadingSource, SourceEvent } from '../acquisition/sourceTypes';
+import type { Reading, SourceEvent } from '../acquisition/sourceTypes';
 import {
   CONTRACT_VERSION, LIMITS, parseRequest,
   type AnyReply, type BenchState, type BridgeEvent, type BridgeRequest, type RejectCounts, type SampleDetails, type SourceChoice,
@@ -19,6 +19,7 @@ import { Outbox } from './bench/outbox';
 import { RecordWriter } from './bench/recordWriter';
 import { Refusal, oneLine } from './bench/refusal';
 import { RunData, analyzerOptions } from './bench/runData';
+import { SourceSlot } from './bench/sourceSlot';
 import { emptyRejectCounts, newRunId, recordFileName, sourceLabel } from './bench/runNaming';
 import { exportCsv } from './bench/runExport';
 import { listRecordFiles, resolveRecordName } from './bench/runsFolder';
@@ -33,8 +34,7 @@ export class BenchService {
   private readonly run: RunData;
   private readonly record: RecordWriter;
   private readonly outbox: Outbox;
-  private source: ReadingSource | null = null;
-  private unsubscribe: (() => void) | null = null;
+  private readonly source = new SourceSlot();
   private pendingMixedDevice_s: number | null = null;
   private replayPath: string | null = null;
   private lastRejected: { reason: keyof RejectCounts; line: string } | null = null;
@@ -135,13 +135,13 @@ export class BenchService {
         await this.closeSource();
         return this.changed();
       case 'takeBlank': {
-        await this.command({ type: 'takeBlank' }, 'take the blank');
+        await this.source.command({ type: 'takeBlank' }, 'take the blank');
         this.state.blankTaken = true;
         this.record.event({ ev: 'blank', t: this.run.deviceTimeNow(), detail: 'blank taken' });
         return this.changed();
       }
       case 'setWavelength':
-        if (this.source) await this.command({ type: 'setWavelength', wavelength_nm: req.wavelength_nm }, 'set the wavelength');
+        if (this.source.isOpen) await this.source.command({ type: 'setWavelength', wavelength_nm: req.wavelength_nm }, 'set the wavelength');
         this.state.wavelength_nm = req.wavelength_nm;
         this.record.event({ ev: 'meta', t: this.run.deviceTimeNow(), details: this.state.sampleDetails, wavelength_nm: req.wavelength_nm });
         return this.changed();
@@ -209,7 +209,7 @@ export class BenchService {
   }
 
   private async connect(): Promise<void> {
-    if (this.source) return;
+    if (this.source.isOpen) return;
     this.state.phase = 'connecting';
     this.changed();
     try {
@@ -221,37 +221,25 @@ export class BenchService {
     }
   }
 
-  /** Creates and opens the chosen source; on failure nothing is left open. */
+  /** Opens the chosen source; on failure nothing is left open and the status says why. */
   private async openSource(): Promise<void> {
     try {
-      const source = await this.deps.createSource(this.state.source, this.replayPath);
-      const offs = [source.on((e) => this.onSourceEvent(e))];
-      // A replayed record's own events: its time zero and its marks carry over into the new record.
-      const replay = source as ReadingSource & { onRecorded?: (l: (e: RunEvent) => void) => () => void };
-      if (typeof replay.onRecorded === 'function') offs.push(replay.onRecorded((e) => this.onRecordedEvent(e)));
-      this.unsubscribe = () => { for (const off of offs) off(); };
-      this.source = source;
-      await source.open();
+      await this.source.open(
+        () => this.deps.createSource(this.state.source, this.replayPath),
+        (e) => this.onSourceEvent(e),
+        // A replayed record's own events: its time zero and its marks carry over into the new record.
+        (e) => this.onRecordedEvent(e),
+      );
     } catch (err) {
-      await this.closeSource();
+      if (this.state.phase !== 'running') this.state.phase = 'idle';
       this.state.sourceStatus = { kind: 'error', message: oneLine(err) };
       throw err;
     }
   }
 
   private async closeSource(): Promise<void> {
-    const source = this.source;
-    this.source = null;
-    this.unsubscribe?.();
-    this.unsubscribe = null;
-    if (source) await source.close().catch(() => undefined);
+    await this.source.close();
     if (this.state.phase !== 'running') this.state.phase = 'idle';
-  }
-
-  private async command(cmd: Parameters<ReadingSource['command']>[0], what: string): Promise<void> {
-    if (!this.source) throw new Refusal(`${what}: no instrument is connected; press connect first.`);
-    const r = await this.source.command(cmd);
-    if (!r.ok) throw new Refusal(`${what}: ${r.error}`);
   }
 
   private onSourceEvent(e: SourceEvent): void {
@@ -368,17 +356,18 @@ export class BenchService {
         throw new Refusal(`start: ${oneLine(err)}`);
       }
     }
-    const r = await this.source!.command({ type: 'start' });
-    if (!r.ok) {
-      await this.stopRun('error', r.error);
-      throw new Refusal(`start: ${r.error}`);
+    try {
+      await this.source.command({ type: 'start' }, 'start');
+    } catch (err) {
+      await this.stopRun('error', oneLine(err));
+      throw err;
     }
   }
 
   private async stopRun(reason: 'user' | 'sourceEnded' | 'error', detail: string): Promise<void> {
     if (this.state.phase !== 'running') return;
     this.state.phase = 'stopped';
-    if (reason !== 'sourceEnded') await this.source?.command({ type: 'stop' }).catch(() => undefined);
+    if (reason !== 'sourceEnded') await this.source.commandQuietly({ type: 'stop' });
     this.outbox.drain();
     const path = await this.record.close({ reason, detail, rejected: { ...this.state.rejected } }, (m) => this.warn(m));
     if (path) this.emit({ type: 'record', path, status: 'closed' });

@@ -1,0 +1,58 @@
+/**
+ * The one source the bench service holds at a time: opened with its listeners
+ * attached (a replay's recorded events too), closed with them detached, and asked for
+ * commands with a refusal the user can read when there is none or it says no.
+ */
+import type { RunEvent } from '../../acquisition/runRecordFormat';
+import type { ReadingSource, SourceCommand, SourceEvent } from '../../acquisition/sourceTypes';
+import { Refusal } from './refusal';
+
+type Replayable = ReadingSource & { onRecorded?: (listener: (e: RunEvent) => void) => () => void };
+
+export class SourceSlot {
+  private source: ReadingSource | null = null;
+  private detach: (() => void) | null = null;
+
+  get isOpen(): boolean {
+    return this.source !== null;
+  }
+
+  /** Creates, subscribes and opens a source; on failure nothing is left open and the error is rethrown. */
+  async open(
+    create: () => ReadingSource | Promise<ReadingSource>,
+    onEvent: (e: SourceEvent) => void,
+    onRecorded: (e: RunEvent) => void,
+  ): Promise<void> {
+    try {
+      const source: Replayable = await create();
+      const offs = [source.on(onEvent)];
+      if (typeof source.onRecorded === 'function') offs.push(source.onRecorded(onRecorded));
+      this.detach = () => { for (const off of offs) off(); };
+      this.source = source;
+      await source.open();
+    } catch (err) {
+      await this.close();
+      throw err;
+    }
+  }
+
+  async close(): Promise<void> {
+    const source = this.source;
+    this.source = null;
+    this.detach?.();
+    this.detach = null;
+    if (source) await source.close().catch(() => undefined);
+  }
+
+  /** A command the user asked for: a refusal names `what` and the reason. */
+  async command(cmd: SourceCommand, what: string): Promise<void> {
+    if (!this.source) throw new Refusal(`${what}: no instrument is connected; press connect first.`);
+    const r = await this.source.command(cmd);
+    if (!r.ok) throw new Refusal(`${what}: ${r.error}`);
+  }
+
+  /** A command on the way out (stop): a failure changes nothing the user can act on. */
+  async commandQuietly(cmd: SourceCommand): Promise<void> {
+    await this.source?.command(cmd).catch(() => undefined);
+  }
+}
