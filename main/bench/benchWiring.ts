@@ -50,7 +50,8 @@ export async function createSource(choice: SourceChoice, replayPath: string | nu
       } catch (err) {
         throw new Refusal(err instanceof Error ? err.message.split('\n')[0]! : String(err));
       }
-      return new ReplaySource(timelineFromRecord(record), { speed: choice.speed ?? 'max', label: choice.file });
+      // Small batches at full speed keep the host answering the screen between them.
+      return new ReplaySource(timelineFromRecord(record), { speed: choice.speed ?? 'max', label: choice.file, batch: 512 });
     }
     case 'serial':
       return new SerialSource({ path: choice.path, baudRate: choice.baud });
