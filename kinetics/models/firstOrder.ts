@@ -6,7 +6,7 @@
  * the way a joint 3-parameter search can when A∞ and k trade against each other.
  */
 import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
-import { finishFit } from './fitStatistics';
+import { aInfAtFloorWarning, finishFit } from './fitStatistics';
 
 export const firstOrderLaw: RateLaw = {
   name: 'first',
@@ -107,7 +107,12 @@ export function fitFirstOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   const warnings: string[] = [];
   if (lin.c === 0) warnings.push('first order: no decay found (A0 − A∞ fitted as zero)');
   if (m.x <= kLo + 1e-6) warnings.push('first order: the rate is too slow to measure over this span');
-  return finishFit('first', firstOrderLaw, s, p, [true, true, !lin.aInfHeld], iter < 200 && lin.c > 0, warnings);
+  const aInfFree = opts.fixedAInf === undefined;
+  if (aInfFree && lin.aInfHeld && lin.c > 0) warnings.push(aInfAtFloorWarning('first', lin.aInf));
+  // A∞ pinned on its floor by the bound (not by the user) still counts as free for the
+  // covariance: the data have not fixed it, and leaving it out would make k's CI far too
+  // narrow early in a run (k and A∞ trade against each other before the curve bends).
+  return finishFit('first', firstOrderLaw, s, p, [true, true, aInfFree], iter < 200 && lin.c > 0, warnings);
 }
 
 /**

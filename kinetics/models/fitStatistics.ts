@@ -97,6 +97,11 @@ export function aiccOf(chiSquare: number, readings: number, freeCount: number): 
   return n * Math.log(chiSquare / n) + 2 * p + (2 * p * (p + 1)) / (n - p - 1);
 }
 
+/** Said when the end absorbance sits on its lower bound: the run has not yet shown where the curve ends. */
+export function aInfAtFloorWarning(model: ModelName, aInf: number): string {
+  return `${model} order: the end signal A∞ sits on its lower bound (${aInf.toPrecision(3)}); the run has not yet shown where the curve levels off, so k is still loosely fixed`;
+}
+
 /** Assembles the fit's report at the final parameters. */
 export function finishFit(
   model: ModelName, law: RateLaw, s: FitSeries, p: Float64Array, free: boolean[],
