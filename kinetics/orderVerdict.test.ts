@@ -38,7 +38,8 @@ describe('runs test on residual signs', () => {
     // 10 +, 10 −, alternating in pairs: ++−−++−− … → R = 10 runs.
     // μ = 2·10·10/20 + 1 = 11; σ² = 2·10·10·(200 − 20)/(20²·19) = 36000/7600 = 4.7368
     const r = Float64Array.from({ length: 20 }, (_, i) => (Math.floor(i / 2) % 2 === 0 ? 1 : -1));
-    const z = (10 - 11) / Math.sqrt(36000 / 7600);
+    // With the continuity correction of ½ toward μ: z = (|R − μ| − ½)/σ.
+    const z = (Math.abs(10 - 11) - 0.5) / Math.sqrt(36000 / 7600);
     expect(residualRunsP(r)).toBeCloseTo(normalTwoSidedP(z), 12);
     // two long runs: strongly rejected
     const two = Float64Array.from({ length: 40 }, (_, i) => (i < 20 ? 1 : -1));

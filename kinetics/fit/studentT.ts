@@ -75,10 +75,20 @@ export function studentTQuantile(p: number, dof: number): number {
   if (p === 0.5) return 0;
   if (dof === Infinity || dof > 1e8) return normalQuantile(p);
   if (dof === 1) return Math.tan(Math.PI * (p - 0.5)); // Cauchy, closed form
+  // The streaming engine asks for the same few quantiles (0.975 at the current dof) on
+  // every refit, and each costs a Newton search on the incomplete beta: remember them.
+  const key = `${p}|${dof}`;
+  const known = quantileMemo.get(key);
+  if (known !== undefined) return known;
   const q = p < 0.5 ? p : 1 - p;
   const t = lowerTailQuantile(q, dof);
+  if (quantileMemo.size >= QUANTILE_MEMO_SIZE) quantileMemo.clear();
+  quantileMemo.set(key, p < 0.5 ? t : -t);
   return p < 0.5 ? t : -t;
 }
+
+const QUANTILE_MEMO_SIZE = 1024;
+const quantileMemo = new Map<string, number>();
 
 /** The negative t with F(t) = q, 0 < q < ½. */
 function lowerTailQuantile(q: number, dof: number): number {
