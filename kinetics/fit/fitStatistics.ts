@@ -104,7 +104,7 @@ export function assembleFitResult(parts: FitOutcomeParts): FitResult {
       }
       if (atBound) {
         const side = value <= lm.lower[j]! ? 'lower' : 'upper';
-        warnings.push(`parameter "${spec.name}" ended at its ${side} bound (${value}); its standard error assumes the bound is not in the way.`);
+        warnings.push(`parameter "${spec.name}" ended at its ${side} bound (${Number(value.toPrecision(6))}); its standard error assumes the bound is not in the way.`);
       }
       j++;
     }

@@ -9,7 +9,7 @@ import { fitLeastSquares } from '../fit/leastSquares';
 import type { ParameterSpec } from '../fit/fitTypes';
 import type { ModelName } from '../analysisTypes';
 import { AINF, A0, K, ORDER, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
-import { aInfAtFloorWarning, binMean, finishFit } from './fitStatistics';
+import { binMean, finishFit } from './fitStatistics';
 
 export interface CoreBounds {
   /** Extra parameter bounds beyond k ≥ 0, C ≥ 0, A∞ ≥ aInfMin (for the order n). */
@@ -71,11 +71,11 @@ export function fitWithCore(
   const held = (name: string): boolean => !byName[name] || byName[name].fixed || byName[name].atBound;
   // k or C left on their bound (no decay) is reported as held: its SE would not mean
   // anything. A∞ pinned on its floor stays free for the covariance, so that k's CI
-  // still carries the doubt about where the curve ends (see firstOrder.ts).
+  // still carries the doubt about where the curve ends (see firstOrder.ts); the core
+  // has already said in a warning that it sits on its bound.
   const free = [!held('k'), !held('c'), !aInfFixed];
   if (np > ORDER) free.push(!held('n'));
   const warnings = result.warnings.map((w) => `${model} order: ${w}`);
   if (held('c')) warnings.push(`${model} order: no decay found (A0 − A∞ fitted as zero)`);
-  else if (!aInfFixed && byName.aInf?.atBound) warnings.push(aInfAtFloorWarning(model, final[AINF]));
   return finishFit(model, law, s, final, free, result.ok && result.converged, warnings);
 }

@@ -12,8 +12,9 @@ import { MIN_POINTS_TO_ESTIMATE } from '../../kinetics/stopAdvice';
 
 const HELP = `usage: rateline analyze FILE [--format text|json] [--half-lives N] [--precision F] [--from S] [--to S]
 
-  FILE            CSV with a header row naming time_s and absorbance (comma or semicolon
-                  separated; a decimal comma is accepted with semicolons)
+  FILE            a run record (.jsonl, as rateline record writes it), or a CSV with a
+                  header row naming time_s and absorbance (comma or semicolon separated;
+                  a decimal comma is accepted with semicolons)
   --format        text (default) or json
   --half-lives N  target in half-lives, i.e. fraction converted 1 − 2^(−N) (default 3)
   --precision F   settled when the 95% CI half-width of k is within F × k (default 0.05)
@@ -44,6 +45,9 @@ export async function run(argv: string[]): Promise<number> {
     throw err;
   }
   const { time_s, absorbance } = loaded;
+  // A record that was cut off (a crash, a pulled plug) is analysed as recovered; say so
+  // on stderr so that JSON on stdout stays clean.
+  if (loaded.notice) console.error(loaded.notice);
   let inWindow = 0;
   for (let i = 0; i < time_s.length; i++) {
     if ((from_s === undefined || time_s[i] >= from_s) && (to_s === undefined || time_s[i] <= to_s)) inWindow++;

@@ -43,7 +43,7 @@ export function formatAnalysisText(file: string, r: AnalysisResult): string {
   out.push('');
   const f = r.fractionConverted;
   out.push(`Progress (${r.drivingModel} order): ${g(r.halfLivesElapsed, 3)} half-lives elapsed, ${f === null ? '—' : (100 * f).toFixed(1) + '%'} converted; target ${r.targetHalfLives} half-lives (${(100 * (1 - 2 ** -r.targetHalfLives)).toFixed(1)}%) at ${pm(r.stop.predictedAt_s, r.stop.predictedAtStdErr_s)} s`);
-  out.push(`Advice: ${r.stop.state}: ${r.stop.reason}`);
+  out.push(`Advice: ${ADVICE_WORDS[r.stop.state]}: ${r.stop.reason}`);
   out.push(`Stop suggested: ${r.stop.suggested ? 'yes' : 'no'}${r.stop.atTime_s !== null ? ` (first at ${g(r.stop.atTime_s)} s during the feed)` : ''}`);
   out.push(`Outliers left out: ${r.outliers.length === 0 ? 'none' : `${r.outliers.length} (readings ${r.outliers.slice(0, 20).join(', ')}${r.outliers.length > 20 ? ', …' : ''}; 0-based)`}`);
   const warn = [...r.warnings, ...(['zero', 'first', 'second', 'nth'] as const).flatMap((m) => r.models[m].warnings)];
@@ -52,3 +52,11 @@ export function formatAnalysisText(file: string, r: AnalysisResult): string {
   out.push(`Note: ${r.uncertaintyNote}`);
   return out.join('\n');
 }
+
+/** The advice states in words, as the screen says them. */
+const ADVICE_WORDS: Record<AnalysisResult['stop']['state'], string> = {
+  gathering: 'gathering readings',
+  estimating: 'estimating',
+  settled: 'settled, target not yet reached',
+  farEnough: 'far enough, stop now',
+};
