@@ -67,8 +67,10 @@ describe('crash recovery', () => {
           const now = performance.now();
           if (p.journalled > 0) firstAt ??= now;
           seen.push({ at_ms: now, journalled: p.journalled, deviceTime_s: p.deviceTime_s });
-          // A few seconds of recording at 200× (about 200 readings a second).
-          if (firstAt !== null && now - firstAt > 3000) resolve();
+          // A few seconds of recording at 200× (about 200 readings a second), and at least
+          // 50 readings reported a full second ago, however slowly a loaded machine runs.
+          const dueNow = seen.filter((s) => s.at_ms <= now - 1000).at(-1);
+          if (firstAt !== null && now - firstAt > 3000 && (dueNow?.journalled ?? 0) > 50) resolve();
         }
       });
       void exited.then(() => reject(new Error(`rateline record exited early: ${stderr}`)));
