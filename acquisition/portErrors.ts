@@ -58,7 +58,7 @@ export function openFailureMessage(path: string, err: unknown, ports: readonly P
   const listing = describePorts(ports);
   switch (problem) {
     case 'missing':
-      return new SourceOpenError(problem, `serial port ${path} not found (${listing}); check the cable and pass one of these with --port.`);
+      return new SourceOpenError(problem, `serial port ${path} not found (${listing}); check the cable, then choose one of these ports.`);
     case 'busy':
       return new SourceOpenError(problem, `serial port ${path} is busy: another program has it open (close that program, or choose another port; ${listing}).`);
     case 'permission': {
