@@ -74,12 +74,25 @@ export class RunData {
     return this.analyzer ? this.analyzer.result() : null;
   }
 
-  /** Run-clock time now: the last reading's time plus the host time since it arrived (0 before any). */
+  /**
+   * Run-clock time now: the last reading's time plus the time since it arrived (0 before
+   * any), converted to data seconds at the pace the recent readings came (a simulated or
+   * replayed run goes faster than the wall clock) and never more than one reading interval
+   * ahead, so a mark or a time zero lands between the readings it was pressed between.
+   */
   runTimeNow(): number {
     const n = this.series.length;
     if (n === 0) return 0;
-    const last = this.arrivals_ms[this.arrivals_ms.length - 1] ?? this.now_ms();
-    return this.series.time_s[n - 1]! + (this.now_ms() - last) / 1000;
+    const h = this.arrivals_ms;
+    const lastTime_s = this.series.time_s[n - 1]!;
+    const last_ms = h[h.length - 1] ?? this.now_ms();
+    const span = Math.min(n - 1, h.length - 1);
+    if (span < 1) return lastTime_s + (this.now_ms() - last_ms) / 1000;
+    const data_s = lastTime_s - this.series.time_s[n - 1 - span]!;
+    const host_s = (last_ms - h[h.length - 1 - span]!) / 1000;
+    const pace = host_s > 0 ? data_s / host_s : 1;
+    const ahead_s = ((this.now_ms() - last_ms) / 1000) * pace;
+    return lastTime_s + Math.min(Math.max(0, ahead_s), data_s / span);
   }
 
   /** Device time now, for the record's events (null before the clock's origin is known). */
