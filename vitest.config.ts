@@ -11,6 +11,6 @@ export default defineConfig({
     hookTimeout: 60_000,
     pool: 'forks',
     maxWorkers: 2,
-    reporters: ['default'],
+    reporters: ['default', './test/closingLineReporter.ts'],
   },
 });
