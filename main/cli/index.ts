@@ -12,6 +12,8 @@ interface CommandEntry {
 const commands: Record<string, CommandEntry> = {
   analyze: { summary: 'fit a recorded run (CSV or run record) and print the result', load: () => import('./analyzeCommand') },
   simulate: { summary: 'write a synthetic run as CSV from the physical model', load: () => import('./simulateCommand') },
+  calibrate: { summary: 'fit the Beer–Lambert line to standards; read unknowns back', load: () => import('./calibrateCommand') },
+  combine: { summary: 'combine runs into the rate law (by concentration) or Ea (by temperature)', load: () => import('./combineCommand') },
   emulate: { summary: 'play an instrument on a serial port, speaking the line protocol', load: () => import('./emulateCommand') },
   record: { summary: 'record a run from a serial instrument, headless', load: () => import('./recordCommand') },
   serve: { summary: 'serve the screens on a loopback web host (127.0.0.1, with a token)', load: () => import('./serveCommand') },
