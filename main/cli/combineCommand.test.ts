@@ -118,6 +118,24 @@ describe('rateline combine --by concentration, run for real', () => {
     // negative control: the slope through untransformed values is not the order
     expect(Math.abs(linearRegression(rows).m - L.order)).toBeGreaterThan(0.1);
   });
+
+  it('weights a summary CSV by k_se when every row has one (handbook weighted least squares)', () => {
+    const rows: [number, number, number][] = [[0.01, 0.00351, 0.00002], [0.02, 0.00694, 0.00004], [0.04, 0.01412, 0.00012]];
+    writeFileSync(join(dir, 'weighted.csv'), 'concentration_mM,k,k_se\n' + rows.map(([c, k, se]) => `${c * 1000},${k},${se}`).join('\n') + '\n');
+    const L = json('combine', 'weighted.csv', '--by', 'concentration').rateLaw;
+    expect(L.weighted).toBe(true);
+    // handbook: weighted slope Σw(x − x̄)(y − ȳ)/Σw(x − x̄)², weighted means, w = 1/σ² with σ(ln k) = σ_k/k
+    const pts = rows.map(([c, k, se]) => ({ x: Math.log(c), y: Math.log(k), w: (k / se) ** 2 }));
+    const W = sum(pts.map((p) => p.w));
+    const xw = sum(pts.map((p) => p.w * p.x)) / W, yw = sum(pts.map((p) => p.w * p.y)) / W;
+    const m = sum(pts.map((p) => p.w * (p.x - xw) * (p.y - yw))) / sum(pts.map((p) => p.w * (p.x - xw) ** 2));
+    close(L.order, m, 1e-9);
+    // handbook: weighted line through the origin, k = Σw x y / Σw x², w = 1/σ_k²
+    const k = sum(rows.map(([c, kk, se]) => (c * kk) / se ** 2)) / sum(rows.map(([c, , se]) => (c * c) / se ** 2));
+    close(L.k, k, 1e-9);
+    // negative control: the unweighted slope differs
+    expect(Math.abs(linearRegression(pts.map((p) => [p.x, p.y])).m - m)).toBeGreaterThan(1e-4);
+  });
 });
 
 describe('rateline combine --by temperature, run for real', () => {
@@ -167,6 +185,11 @@ describe('rateline combine --by temperature, run for real', () => {
     const ref = linearRegression(rows.map(([t, k]) => [1 / (t + 273.15), Math.log(k)]));
     close(A.activationEnergy_kJPerMol, (-ref.m * R) / 1000, 1e-9); // handbook: slope = −Ea/R
     close(A.lnPreExponential, ref.b, 1e-9);
+    const pts = rows.map(([t, k]) => [1 / (t + 273.15), Math.log(k)]);
+    const xBar = sum(pts.map((p) => p[0])) / pts.length;
+    const s = Math.sqrt(sum(pts.map(([x, y]) => (y - ref.m * x - ref.b) ** 2)) / (pts.length - 2));
+    close(A.activationEnergyStdErr_kJPerMol, (R * s) / Math.sqrt(sum(pts.map(([x]) => (x - xBar) ** 2))) / 1000, 1e-7); // handbook: s_b = s/√Sxx, SE(Ea) = R s_b
+    expect(A.weighted).toBe(false);
     // negative control: in °C instead of K the slope is far from it
     expect(Math.abs(linearRegression(rows.map(([t, k]) => [1 / t, Math.log(k)])).m * -R / 1000 - A.activationEnergy_kJPerMol)).toBeGreaterThan(1);
   });
