@@ -60,6 +60,9 @@ describe('rateline calibrate, run for real on the demo standards', () => {
     close(j.epsilonCI95_perMperCm[0], j.epsilon_perMperCm - T12 * j.epsilonStdErr_perMperCm, 1e-6);
     close(j.interceptCI95_AU[1] - j.intercept_AU, T12 * j.interceptStdErr_AU, 1e-4);
     expect(j.dof).toBe(12);
+    expect(j.n).toBe(data.length);
+    expect(j.distinctConcentrations).toBe(new Set(data.map((p) => p[0])).size);
+    expect(j.pathLength_cm).toBe(1);
     expect(j.residuals).toHaveLength(14);
     j.residuals.forEach((r: { line: number; concentration: number; absorbance: number; fitted_AU: number; residual_AU: number }, i: number) => {
       expect(r.line).toBe(i + 3); // comment line, header, then the standards
