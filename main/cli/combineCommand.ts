@@ -3,8 +3,8 @@
  * [--format text|json]`: several runs, one result. Each run file (a run record or a run
  * CSV) is fitted by a RunAnalyzer as `rateline analyze` does; its first-order k_obs with
  * SE goes into the rate law in the excess reagent (kinetics/rateLawSeries.ts) or into the
- * Arrhenius line (kinetics/arrhenius.ts). A run whose verdict is not first order, or
- * whose k has not settled, is left out with a warning on stderr. A summary CSV (one row
+ * Arrhenius line (kinetics/arrhenius.ts). A run whose data decide for another order than
+ * first, or whose k has not settled, is left out with a warning on stderr. A summary CSV (one row
  * per run analysed elsewhere: concentration or temperature, k, k_se) may stand in for run
  * files. Exit 0 done, 2 bad input.
  */
@@ -27,8 +27,9 @@ const HELP = `usage: rateline combine FILE... --by concentration|temperature [--
 
   FILE...          two or more runs: run records (.jsonl, as rateline record writes them)
                    or run CSVs (time_s, absorbance); each is fitted as rateline analyze
-                   does, and its first-order k_obs (with SE) is used. A run whose order is
-                   not first, or whose k has not settled, is left out with a warning.
+                   does, and its first-order k_obs (with SE) is used. A run whose data
+                   decide for another order, or whose k has not settled, is left out
+                   with a warning; an undecided run that first order fits best is kept.
                    A FILE may instead be a summary CSV of runs analysed elsewhere, one run
                    a line: concentration_M (or _mM, _uM) or temperature_C, k (s^-1), and
                    optionally k_se (the fit is weighted by 1/k_se^2 when every run has one)
@@ -150,8 +151,13 @@ function summaryRuns(text: string, file: string, by: CombineBy, names: string[],
   });
 }
 
-/** Fits one run file; returns the run, or why it is left out. */
-function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string): { k: number; se: number } | { reason: string } {
+/**
+ * Fits one run file; returns the run, or why it is left out. The series is designed to be
+ * pseudo-first-order (reagent in excess), so a run is left out only when the data decide
+ * for another order; a run left undecided while first order fits best (most often a
+ * chance rejection by the runs test, about one good run in twenty) is kept, with a note.
+ */
+function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string): { k: number; se: number; note?: string } | { reason: string } {
   if (time_s.length < MIN_POINTS_TO_ESTIMATE) {
     throw new InputError(`${file}: only ${time_s.length} reading(s); a fit needs at least ${MIN_POINTS_TO_ESTIMATE}. Record a longer run or leave this file out.`);
   }
@@ -159,10 +165,15 @@ function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string
   for (let i = 0; i < time_s.length; i++) analyzer.add(time_s[i]!, absorbance[i]!);
   const r = analyzer.flush();
   const first = r.models.first;
-  if (r.verdict.order !== 'first') return { reason: `its order is ${r.verdict.order === 'undecided' ? 'undecided' : r.verdict.order} (${r.verdict.reason}), not first` };
+  const w = r.verdict.weights;
+  const firstBest = w.first !== null && w.first >= (w.zero ?? 0) && w.first >= (w.second ?? 0);
+  if (r.verdict.order !== 'first' && !(r.verdict.order === 'undecided' && firstBest)) {
+    return { reason: `its order is ${r.verdict.order} (${r.verdict.reason}), not first` };
+  }
+  const note = r.verdict.order === 'undecided' ? `its order is undecided (${r.verdict.reason}); first order fits it best and is used` : undefined;
   if (r.stop.state !== 'settled' && r.stop.state !== 'farEnough') return { reason: `k has not settled (${r.stop.reason}); record it longer` };
   if (first.k === null || first.kStdErr === null || !(first.k > 0)) return { reason: 'the first-order fit gave no k with a standard error' };
-  return { k: first.k, se: first.kStdErr };
+  return note === undefined ? { k: first.k, se: first.kStdErr } : { k: first.k, se: first.kStdErr, note };
 }
 
 export async function run(argv: string[]): Promise<number> {
@@ -207,7 +218,10 @@ export async function run(argv: string[]): Promise<number> {
       const series = analysisSeries(record);
       const fit = analyseRun(series.time_s, series.absorbance, file);
       if ('reason' in fit) leftOut.push({ label: file, reason: fit.reason });
-      else runs.push({ label: file, x, xFrom: option ? 'option' : 'header', k_perSecond: fit.k, kStdErr_perSecond: fit.se });
+      else {
+        if (fit.note) console.error(`rateline combine: note: ${file}: ${fit.note}.`);
+        runs.push({ label: file, x, xFrom: option ? 'option' : 'header', k_perSecond: fit.k, kStdErr_perSecond: fit.se });
+      }
       continue;
     }
     const header = readHeader(text);
@@ -225,7 +239,10 @@ export async function run(argv: string[]): Promise<number> {
     }
     const fit = analyseRun(parsed.run.time_s, parsed.run.absorbance, file);
     if ('reason' in fit) leftOut.push({ label: file, reason: fit.reason });
-    else runs.push({ label: file, x: option.x, xFrom: 'option', k_perSecond: fit.k, kStdErr_perSecond: fit.se });
+    else {
+      if (fit.note) console.error(`rateline combine: note: ${file}: ${fit.note}.`);
+      runs.push({ label: file, x: option.x, xFrom: 'option', k_perSecond: fit.k, kStdErr_perSecond: fit.se });
+    }
   }
   for (const l of leftOut) console.error(`rateline combine: warning: ${l.label} is left out: ${l.reason}.`);
   if (runs.length < 2) {
