@@ -16,6 +16,7 @@ const commands: Record<string, CommandEntry> = {
   combine: { summary: 'combine runs into the rate law (by concentration) or Ea (by temperature)', load: () => import('./combineCommand') },
   emulate: { summary: 'play an instrument on a serial port, speaking the line protocol', load: () => import('./emulateCommand') },
   record: { summary: 'record a run from a serial instrument, headless', load: () => import('./recordCommand') },
+  export: { summary: 'write a recorded run as JCAMP-DX or annotated CSV', load: () => import('./exportCommand') },
   serve: { summary: 'serve the screens on a loopback web host (127.0.0.1, with a token)', load: () => import('./serveCommand') },
   start: { summary: 'start the desktop app (falls back to the loopback host without Electron)', load: () => import('./startCommand') },
 };
