@@ -18,11 +18,16 @@ const HELP = `usage: rateline analyze FILE [--format text|json] [--half-lives N]
   --format        text (default) or json
   --half-lives N  target in half-lives, i.e. fraction converted 1 − 2^(−N) (default 3)
   --precision F   settled when the 95% CI half-width of k is within F × k (default 0.05)
-  --from S, --to S  fit window in seconds (readings outside are kept but not fitted)`;
+  --from S, --to S  fit window in seconds (readings outside are kept but not fitted)
+  --a-inf A       hold the end absorbance A∞ at A instead of fitting it
+  --weights W     noise (default: weights from the absorbance noise model,
+                  σ_A = 0.434 σ_T / T) or none (unweighted least squares)
+  --noise-t S     the instrument's transmittance noise σ_T for the weights (default 0.001)
+  --robust R      on (default: a bubble spike is down-weighted and listed) or off`;
 
 export async function run(argv: string[]): Promise<number> {
   const cmd = 'analyze';
-  const args = parseArgs(cmd, argv, ['format', 'half-lives', 'precision', 'from', 'to']);
+  const args = parseArgs(cmd, argv, ['format', 'half-lives', 'precision', 'from', 'to', 'a-inf', 'weights', 'noise-t', 'robust']);
   if (args.help) { console.log(HELP); return 0; }
   if (args.positional.length !== 1) {
     throw new InputError(`rateline analyze: ${args.positional.length === 0 ? 'no file given' : 'give one file only'}; usage: rateline analyze FILE [--format text|json].`);
@@ -34,6 +39,12 @@ export async function run(argv: string[]): Promise<number> {
   const precision = numberOption(cmd, args, 'precision', (x) => x > 0 && x < 1, 'a fraction between 0 and 1 (e.g. 0.05)');
   const from_s = numberOption(cmd, args, 'from', () => true, 'a time in seconds');
   const to_s = numberOption(cmd, args, 'to', () => true, 'a time in seconds');
+  const fixedAInf = numberOption(cmd, args, 'a-inf', (x) => x > -1 && x < 5, 'an absorbance between -1 and 5');
+  const sigmaT = numberOption(cmd, args, 'noise-t', (x) => x > 0 && x < 0.5, 'a transmittance noise between 0 and 0.5 (e.g. 0.001)');
+  const weights = args.options.get('weights') ?? 'noise';
+  if (weights !== 'noise' && weights !== 'none') throw new InputError(`rateline analyze: --weights ${weights} is not known; use noise or none.`);
+  const robust = args.options.get('robust') ?? 'on';
+  if (robust !== 'on' && robust !== 'off') throw new InputError(`rateline analyze: --robust ${robust} is not known; use on or off.`);
   if (from_s !== undefined && to_s !== undefined && !(to_s > from_s)) {
     throw new InputError(`rateline analyze: the fit window --from ${from_s} --to ${to_s} is empty; --to must be later than --from.`);
   }
@@ -56,7 +67,9 @@ export async function run(argv: string[]): Promise<number> {
     const where = from_s !== undefined || to_s !== undefined ? ' in the fit window' : '';
     throw new InputError(`${file}: only ${inWindow} reading(s)${where}; a fit needs at least ${MIN_POINTS_TO_ESTIMATE}. Record a longer run${where ? ' or widen --from/--to' : ''}.`);
   }
-  const analyzer = new RunAnalyzer({ targetHalfLives, precision, from_s, to_s });
+  const analyzer = new RunAnalyzer({
+    targetHalfLives, precision, from_s, to_s, fixedAInf, sigmaT, weighted: weights === 'noise', robust: robust === 'on',
+  });
   for (let i = 0; i < time_s.length; i++) analyzer.add(time_s[i], absorbance[i]);
   const result = analyzer.flush();
   if (format === 'json') console.log(JSON.stringify({ file, ...result }, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2));

@@ -59,6 +59,24 @@ describe('rateline simulate and analyze, run for real', () => {
     expect(j.targetHalfLives).toBe(2);
   });
 
+  it('holds A∞ with --a-inf, fits unweighted with --weights none, and keeps spikes with --robust off', () => {
+    const run = (...o: string[]) => JSON.parse(rateline('analyze', 'demo.csv', '--format', 'json', ...o).out);
+    const held = run('--a-inf', '0.005');
+    expect(held.models.first.aInf).toBe(0.005);
+    expect(held.models.first.aInfFixed).toBe(true);
+    // Holding a parameter the data would fit anyway narrows k's interval.
+    const free = run();
+    expect(held.models.first.kStdErr).toBeLessThan(free.models.first.kStdErr);
+    // DEMO.md: k_obs = 3.5e-3 s^-1; weighted and unweighted both cover it, with different k.
+    const plain = run('--weights', 'none');
+    expect(plain.models.first.kCI95[0]).toBeLessThan(3.5e-3);
+    expect(plain.models.first.kCI95[1]).toBeGreaterThan(3.5e-3);
+    expect(plain.models.first.k).not.toBe(free.models.first.k);
+    // Negative control: without the robust fit the two spikes are not listed as outliers.
+    expect(run('--robust', 'off').outliers).toHaveLength(0);
+    expect(rateline('analyze', 'demo.csv', '--weights', 'x').err.trim()).toBe('rateline analyze: --weights x is not known; use noise or none.');
+  });
+
   it('reads a semicolon file with decimal commas', () => {
     const lines = readFileSync(join(dir, 'demo.csv'), 'utf8').split('\n').slice(1).filter(Boolean).map((l) => l.replace(',', ';').replace('.', ','));
     writeFileSync(join(dir, 'semi.csv'), lines.join('\n'));
