@@ -23,6 +23,8 @@ export interface DelimitedConfig {
   /** Wavelength when no column gives it. */
   wavelength_nm?: number;
   maxLineChars?: number;
+  /** Lines ignored at the start, whatever they hold (a banner the instrument prints when it starts). */
+  skipLines?: number;
 }
 
 const TIME_FACTOR = { s: 1, ms: 1e-3, min: 60 } as const;
@@ -36,9 +38,11 @@ export class DelimitedReader {
   private lastTime_s = -Infinity;
   private seenData = false;
   private readonly maxChars: number;
+  private toSkip: number;
 
   constructor(readonly config: DelimitedConfig) {
     this.maxChars = config.maxLineChars ?? 1024;
+    this.toSkip = config.skipLines ?? 0;
   }
 
   /** Fields of one line, trimmed (exposed for tests). */
@@ -73,6 +77,7 @@ export class DelimitedReader {
     if (line.endsWith('\n')) line = line.slice(0, -1);
     if (line.endsWith('\r')) line = line.slice(0, -1);
     if (line.trim() === '') return { kind: 'empty' };
+    if (this.toSkip > 0) { this.toSkip--; this.headers++; return { kind: 'empty' }; }
     if (line.length > this.maxChars) return this.reject('overlong', `line of ${line.length} characters, more than ${this.maxChars}`);
     for (let i = 0; i < line.length; i++) {
       const code = line.charCodeAt(i);

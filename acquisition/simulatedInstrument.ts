@@ -128,6 +128,16 @@ export class SimulatedInstrument {
     return out;
   }
 
+  /**
+   * One absorbance measurement as numbers rather than a protocol line, for an instrument that
+   * prints plain lines (it takes no commands, so there is no blank and no scan).
+   */
+  reading(deviceTime_s: number): { absorbance: number; temperature_C: number | null } {
+    const s = this.settings;
+    const temperature_C = s.temperature_C === null ? null : s.temperature_C + s.temperatureDrift_KperMin * deviceTime_s / 60 + 0.005 * this.rng.normal();
+    return { absorbance: this.noisy(this.sampleAbsorbance(deviceTime_s)), temperature_C };
+  }
+
   private noisy(trueA: number): number {
     return noisyAbsorbance(trueA, this.settings, this.rng);
   }

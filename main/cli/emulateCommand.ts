@@ -4,13 +4,17 @@
  * reading every interval (divided by the speed factor), driven by the physical model of
  * the simulator. With a pty pair from socat it gives a real serial line to test and demo
  * with. Like a real device, it keeps measuring when the line goes away and carries on
- * when the port comes back. The readings are demo data.
+ * when the port comes back. The readings are demo data. With --plain it is instead an
+ * instrument that prints plain delimited lines laid out by a plain-lines spec (the same spec
+ * `rateline record --plain` reads with) and takes no commands.
  */
+import { closeSync, openSync, writeSync } from 'node:fs';
 import { InputError } from './cliErrors';
 import { numberOption, parseArgs } from './cliOptions';
 import { DEMO_RUN, type SimulatedOrder } from '../../kinetics/reactionModel';
 import { SimulatedInstrument, defaultInstrumentSettings } from '../../acquisition/simulatedInstrument';
 import { openFailureMessage, owningGroup } from '../../acquisition/portErrors';
+import { PLAIN_SPEC_HELP, PlainSpecError, formatPlainLine, parsePlainSpec, plainBanner, type PlainSpec } from '../../acquisition/plainSpec';
 
 const HELP = `usage: rateline emulate --port PATH [options]
 
@@ -32,9 +36,15 @@ Rateline line protocol. For a serial pair without hardware:
   --interval S     seconds between readings (default 1)
   --counts         send raw detector counts (the host must take a blank) instead of absorbance
   --temp-drift K   cell temperature drift in kelvin per minute (default 0)
-  --duration S     stop after this many device seconds (default: run until Ctrl-C)`;
+  --duration S     stop after this many device seconds (default: run until Ctrl-C)
+  --plain SPEC     print plain delimited lines laid out by SPEC instead of the protocol,
+                   e.g. --plain "time=1,time-unit=s,signal=2,signal-unit=%T,delimiter=tab";
+                   skip=N prints an N-line banner first (interval= is for the reader: use --interval)
+  --sent-log FILE  also write every line sent, as sent, to FILE (a new file)
 
-const OPTIONS = ['port', 'baud', 'speed', 'seed', 'order', 'k', 'a0', 'a-inf', 'noise-t', 'interval', 'temp-drift', 'duration'];
+Plain lines, ${PLAIN_SPEC_HELP.replace(/\n {2}/g, '\n')}`;
+
+const OPTIONS = ['port', 'baud', 'speed', 'seed', 'order', 'k', 'a0', 'a-inf', 'noise-t', 'interval', 'temp-drift', 'duration', 'plain', 'sent-log'];
 
 function parseOrder(raw: string | undefined): SimulatedOrder {
   if (raw === undefined) return DEMO_RUN.order;
@@ -64,10 +74,31 @@ export async function run(argv: string[]): Promise<number> {
   const interval_s = numberOption(cmd, args, 'interval', (x) => x >= 0.01 && x <= 3600, 'an interval between 0.01 and 3600 s') ?? 1;
   const drift = numberOption(cmd, args, 'temp-drift', (x) => Math.abs(x) <= 10, 'a drift between -10 and 10 K/min') ?? 0;
   const duration_s = numberOption(cmd, args, 'duration', (x) => x > 0, 'a positive number of seconds') ?? null;
+  let plain: PlainSpec | null = null;
+  const plainText = args.options.get('plain');
+  if (plainText !== undefined) {
+    try {
+      plain = parsePlainSpec(plainText);
+    } catch (err) {
+      if (err instanceof PlainSpecError) throw new InputError(`rateline emulate: --plain "${plainText}": ${err.message}.`);
+      throw err;
+    }
+    if (counts) throw new InputError('rateline emulate: --counts and --plain do not go together; an instrument printing plain lines sends its signal (A, %T or T) as the spec says.');
+  }
+  const sentLog = args.options.get('sent-log');
 
   const instrument = new SimulatedInstrument(defaultInstrumentSettings({ order, k, a0, aInf }, {
     sigmaT, seed, interval_s, sends: counts ? 'counts' : 'absorbance', temperatureDrift_KperMin: drift,
   }));
+  let logFd: number | null = null;
+  if (sentLog !== undefined) {
+    try {
+      logFd = openSync(sentLog, 'wx');
+    } catch (err) {
+      const code = (err as NodeJS.ErrnoException).code;
+      throw new InputError(`rateline emulate: cannot create --sent-log ${sentLog} (${code === 'EEXIST' ? 'it exists already, and is never overwritten' : code ?? String(err)}); choose a new file name.`);
+    }
+  }
   const { SerialPort } = await import('serialport');
   const { ReadlineParser } = await import('@serialport/parser-readline');
 
@@ -82,6 +113,7 @@ export async function run(argv: string[]): Promise<number> {
     port = await openPort();
   } catch (err) {
     const ports = await SerialPort.list().catch(() => []);
+    if (logFd !== null) closeSync(logFd);
     throw new InputError(`rateline emulate: ${openFailureMessage(path, err, ports, process.platform, owningGroup(path)).message}`);
   }
 
@@ -90,12 +122,15 @@ export async function run(argv: string[]): Promise<number> {
   let reopenTimer: ReturnType<typeof setTimeout> | null = null;
   const write = (lines: string[]): void => {
     if (!port?.isOpen || lines.length === 0) return;
-    port.write(lines.join(''), 'latin1');
+    const text = lines.join('');
+    port.write(text, 'latin1');
+    if (logFd !== null) writeSync(logFd, text, null, 'latin1');
     sent += lines.length;
   };
   const attach = (p: Port): void => {
     const reader = p.pipe(new ReadlineParser({ delimiter: '\n', encoding: 'latin1' }));
-    reader.on('data', (line: string) => write(instrument.handle(line)));
+    // An instrument printing plain lines takes no commands.
+    reader.on('data', (line: string) => { if (!plain) write(instrument.handle(line)); });
     p.on('error', () => undefined); // a lost line shows as 'close'
     p.on('close', () => {
       if (p !== port) return;
@@ -119,10 +154,18 @@ export async function run(argv: string[]): Promise<number> {
     }, delay_ms);
   };
   attach(port);
-  write([instrument.identityLine()]);
+  let plainLines = 0;
+  const measure = (deviceTime_s: number): string[] => {
+    if (!plain) return instrument.measure(deviceTime_s);
+    const r = instrument.reading(deviceTime_s);
+    plainLines++;
+    return [formatPlainLine(plain.config, { time_s: deviceTime_s, absorbance: r.absorbance, temperature_C: r.temperature_C, wavelength_nm: instrument.wavelength_nm }, plainLines) + '\r\n'];
+  };
+  if (plain) write(plainBanner(plain.config, instrument.wavelength_nm, interval_s).map((l) => l + '\r\n'));
+  else write([instrument.identityLine()]);
   const linesPerSecond = speed / interval_s;
   console.log(
-    `rateline emulate: ${counts ? 'counts' : 'absorbance'} instrument (demo data) on ${path} at ${baudRate} baud, ` +
+    `rateline emulate: ${plain ? `plain-lines instrument (${plain.canonical})` : counts ? 'counts instrument' : 'absorbance instrument'} (demo data) on ${path} at ${baudRate} baud, ` +
     `${order} order, k ${k}, reading every ${interval_s} s at ${speed}× speed; Ctrl-C to stop.`,
   );
   if (linesPerSecond > 250) console.log(`rateline emulate: note: ${Math.round(linesPerSecond)} lines/s is more than a real 115200-baud line carries (about 250 lines of this length).`);
@@ -138,7 +181,7 @@ export async function run(argv: string[]): Promise<number> {
       const due_s = ((performance.now() - start_ms) / 1000) * speed;
       while (deviceTime_s + instrument.interval_s <= due_s + 1e-9) {
         deviceTime_s += instrument.interval_s;
-        write(instrument.measure(deviceTime_s));
+        write(measure(deviceTime_s));
         if (duration_s !== null && deviceTime_s >= duration_s - 1e-9) { finish('duration reached'); return; }
       }
       const next_ms = start_ms + ((deviceTime_s + instrument.interval_s) / speed) * 1000;
@@ -154,6 +197,7 @@ export async function run(argv: string[]): Promise<number> {
       const p = port;
       port = null;
       const done = (): void => {
+        if (logFd !== null) closeSync(logFd);
         console.log(`rateline emulate: stopped (${why}) after ${sent} lines, ${deviceTime_s.toFixed(1)} device seconds.`);
         resolve(0);
       };

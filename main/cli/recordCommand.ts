@@ -20,6 +20,7 @@ import { defaultInstrumentSettings } from '../../acquisition/simulatedInstrument
 import { EXIT_BAD_INPUT, EXIT_OK, InputError } from './cliErrors';
 import { formatProgress, progressJson } from './recordProgress';
 import { openSerialForRecord } from './recordSerial';
+import { PLAIN_SPEC_HELP, PlainSpecError, parsePlainSpec, plainIdentity, type PlainSpec } from '../../acquisition/plainSpec';
 
 const USAGE = `usage: rateline record --port PATH|sim --out FILE [options]
 
@@ -27,6 +28,9 @@ const USAGE = `usage: rateline record --port PATH|sim --out FILE [options]
   --simulate           same as --port sim (demo data)
   --out FILE           the new run record (.jsonl); an existing file is never overwritten
   --baud N             serial speed (default 115200)
+  --plain SPEC         the instrument prints plain delimited lines, not the Rateline protocol:
+                       how to read them, e.g. --plain "time=1,time-unit=s,signal=2,signal-unit=%T,delimiter=tab"
+                       (it takes no commands; time zero is its first reading; see below)
   --max-seconds N      stop after N s of run time
   --until-advice       stop when the advice says the run has gone far enough
   --half-lives N       target for the advice, in half-lives (default 3)
@@ -39,7 +43,10 @@ const USAGE = `usage: rateline record --port PATH|sim --out FILE [options]
   --seed N             simulated instrument only (default 1)
   --sends absorbance|counts  simulated instrument only (counts: a blank is taken first)
   --progress text|json progress lines on standard output (default text)
-  --progress-ms N      how often progress is printed (default 1000)`;
+  --progress-ms N      how often progress is printed (default 1000)
+
+--plain ${PLAIN_SPEC_HELP}
+  The record's header keeps the spec in full (instrument identity: "plain delimited lines read as …").`;
 
 function number(name: string, raw: string | undefined, check: (v: number) => boolean, what: string): number | undefined {
   if (raw === undefined) return undefined;
@@ -84,7 +91,7 @@ export async function run(argv: string[]): Promise<number> {
         sample: { type: 'string' }, operator: { type: 'string' }, 'temperature-c': { type: 'string' }, 'wavelength-nm': { type: 'string' },
         'path-cm': { type: 'string' }, ph: { type: 'string' }, buffer: { type: 'string' }, note: { type: 'string' },
         conc: { type: 'string', multiple: true }, volume: { type: 'string', multiple: true },
-        speed: { type: 'string' }, seed: { type: 'string' }, sends: { type: 'string' },
+        plain: { type: 'string' }, speed: { type: 'string' }, seed: { type: 'string' }, sends: { type: 'string' },
         progress: { type: 'string' }, 'progress-ms': { type: 'string' }, help: { type: 'boolean', short: 'h' },
       },
     });
@@ -120,6 +127,17 @@ export async function run(argv: string[]): Promise<number> {
     throw new InputError('rateline record: --speed, --seed and --sends are for the simulated instrument only; drop them or add --simulate.');
   }
 
+  let plain: PlainSpec | null = null;
+  if (o.plain !== undefined) {
+    if (simulate) throw new InputError('rateline record: --plain is for a serial instrument that prints plain lines; drop it, or give --port PATH instead of --simulate.');
+    try {
+      plain = parsePlainSpec(o.plain);
+    } catch (err) {
+      if (err instanceof PlainSpecError) throw new InputError(`rateline record: --plain "${o.plain}": ${err.message}; run "rateline record --help" for the spec.`);
+      throw err;
+    }
+  }
+
   const run: RunMetadata = {
     ...emptyRunMetadata(),
     sample: o.sample ?? (simulate ? 'brilliant blue FCF + hypochlorite (demo)' : null),
@@ -144,7 +162,13 @@ export async function run(argv: string[]): Promise<number> {
     // The simulated instrument's clock starts at mixing: its device time 0 is time zero.
     timeZero = { deviceTime_s: 0 };
   } else {
-    source = await openSerialForRecord(o.port!, baud);
+    if (plain) {
+      // A plain instrument cannot say who it is: the header says how its lines are read instead.
+      instrument.identity = plainIdentity(plain);
+      source = await openSerialForRecord(o.port!, baud, { delimited: { ...plain.config, ...(run.wavelength_nm !== null ? { wavelength_nm: run.wavelength_nm } : {}) }, expectedInterval_s: plain.interval_s });
+    } else {
+      source = await openSerialForRecord(o.port!, baud);
+    }
     timeZero = 'firstReading';
   }
 
@@ -195,7 +219,7 @@ export async function run(argv: string[]): Promise<number> {
     }
   };
   if (progressMode === 'text') {
-    say(`rateline record: recording to ${out}${simulate ? ' from the simulated instrument (demo data)' : ` from ${o.port} at ${baud} baud`}; Ctrl-C stops and closes the record.`);
+    say(`rateline record: recording to ${out}${simulate ? ' from the simulated instrument (demo data)' : ` from ${o.port} at ${baud} baud${plain ? `, plain lines read as ${plain.canonical}` : ''}`}; Ctrl-C stops and closes the record.`);
   }
   const ticker = setInterval(printProgress, progressMs);
   let outcome: RecorderOutcome;

@@ -3,9 +3,17 @@
  * only here, so that recording from the simulated instrument never needs it.
  */
 import type { ReadingSource } from '../../acquisition/sourceTypes';
+import type { DelimitedConfig } from '../../acquisition/delimitedReader';
 
-export async function openSerialForRecord(port: string, baud: number): Promise<ReadingSource> {
+export interface PlainReading {
+  /** How the instrument's plain delimited lines are read. */
+  delimited: DelimitedConfig;
+  /** Seconds between its lines, for the stale-feed watchdog. */
+  expectedInterval_s: number;
+}
+
+export async function openSerialForRecord(port: string, baud: number, plain?: PlainReading): Promise<ReadingSource> {
   const { SerialSource } = await import('../../acquisition/serialSource');
   // Opening (and a clear message listing the ports when it fails) is the recorder's start.
-  return new SerialSource({ path: port, baudRate: baud });
+  return new SerialSource({ path: port, baudRate: baud, ...(plain ? { delimited: plain.delimited, expectedInterval_s: plain.expectedInterval_s } : {}) });
 }
