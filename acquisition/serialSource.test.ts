@@ -179,16 +179,32 @@ describe('serial source: running', () => {
     const s = make('/dev/ttyUSB0', { staleAfterIntervals: 4 }); // 4 × 50 ms
     const { readings, events, statuses } = record(s);
     await s.open();
+    // Two readings 50 ms apart show the pace; then the device falls silent.
     bench.send('/dev/ttyUSB0', bench.instrument.measure(1));
-    await until(() => readings.length === 1, 'a reading');
+    await wait(50);
+    bench.send('/dev/ttyUSB0', bench.instrument.measure(2));
+    await until(() => readings.length === 2, 'two readings');
     await until(() => statuses().includes('stale'), 'stale', 2000);
     const stale = events.find((e) => e.type === 'status' && e.status.kind === 'stale');
     if (stale?.type === 'status' && stale.status.kind === 'stale') expect(stale.status.sinceLastReading_ms).toBeGreaterThan(200);
     await until(() => bench.opened.length >= 2, 'reopened');
     await wait(10);
-    bench.send('/dev/ttyUSB0', bench.instrument.measure(2));
-    await until(() => readings.length === 2, 'reading after reopen');
+    bench.send('/dev/ttyUSB0', bench.instrument.measure(3));
+    await until(() => readings.length === 3, 'reading after reopen');
     expect(events.some((e) => e.type === 'gap' && e.reason === 'feed went stale')).toBe(true);
+  });
+
+  it('learns a slow instrument\'s pace: readings every 3 intervals are not stale, silence after them is', async () => {
+    bench.plug('/dev/ttyUSB0', 'A1');
+    // Configured: 50 ms readings, stale after 2 of them (100 ms). The device reads every 150 ms,
+    // so the configured rule alone (the negative control) would call every gap stale.
+    const s = make('/dev/ttyUSB0', { staleAfterIntervals: 2 });
+    const { readings, statuses } = record(s);
+    await s.open();
+    for (let i = 1; i <= 8; i++) { if (i > 1) await wait(150); bench.send('/dev/ttyUSB0', bench.instrument.measure(i)); }
+    await until(() => readings.length === 8, 'the slow readings');
+    expect(statuses()).not.toContain('stale');
+    await until(() => statuses().includes('stale'), 'stale once the readings stop', 3000);
   });
 
   it('does not call a stopped device stale', async () => {

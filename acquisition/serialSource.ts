@@ -17,6 +17,9 @@ import { ReadingAssembler, type AssemblerOptions } from './readingAssembler';
 import { CommandChannel, type CommandResult } from './commandChannel';
 import { openFailureMessage, owningGroup, type PortListing } from './portErrors';
 
+/** Before the pace is known (fewer than two readings), silence is stale only after this long. */
+export const FIRST_PACE_ALLOWANCE_MS = 60_000;
+
 export interface SerialSourceOptions {
   path: string;
   baudRate?: number;
@@ -82,6 +85,8 @@ export class SerialSource implements ReadingSource {
   private reconnecting = false;
   private expecting = true;
   private lastReading_ms: number | null = null;
+  /** Recent spacings between readings (host ms), for the watchdog's sense of the pace. */
+  private readonly spacings_ms: number[] = [];
   private lastActivity_ms = 0;
   /** The watchdog arms once the device has sent a good line: before that, silence is a slow start, not a stale feed. */
   private heardFromDevice = false;
@@ -180,9 +185,33 @@ export class SerialSource implements ReadingSource {
         this.emit({ type: 'gap', from_ms: this.pendingGap.from_ms, to_ms: e.reading.hostTime_ms, reason: this.pendingGap.reason });
         this.pendingGap = null;
       }
+      if (this.lastReading_ms !== null) this.noteSpacing(e.reading.hostTime_ms - this.lastReading_ms);
       this.lastReading_ms = e.reading.hostTime_ms;
     }
     this.emit(e);
+  }
+
+  /**
+   * The watchdog learns the instrument's own pace: the median of the last few spacings
+   * between readings (host time). An instrument that reads every 10 s is then not called
+   * stale after 5 s; the configured interval stays the floor, so a burst of lines cannot
+   * make the watchdog jumpy.
+   */
+  private noteSpacing(spacing_ms: number): void {
+    if (!(spacing_ms > 0)) return;
+    this.spacings_ms.push(spacing_ms);
+    if (this.spacings_ms.length > 9) this.spacings_ms.shift();
+  }
+
+  /**
+   * How long a silence makes the feed stale. Until two readings have shown the pace, a
+   * minute at least (FIRST_PACE_ALLOWANCE_MS): a slow instrument's first gap is not a fault.
+   */
+  private staleThreshold_ms(): number {
+    const configured = this.expectedInterval_s * 1000;
+    if (this.spacings_ms.length === 0) return Math.max(this.staleAfter * configured, FIRST_PACE_ALLOWANCE_MS);
+    const sorted = [...this.spacings_ms].sort((a, b) => a - b);
+    return this.staleAfter * Math.max(configured, sorted[Math.floor(sorted.length / 2)]!);
   }
 
   private async listPorts(): Promise<PortListing[]> {
@@ -255,7 +284,7 @@ export class SerialSource implements ReadingSource {
     }
     if (!this.expecting || !this.heardFromDevice) return;
     const since = this.now() - Math.max(this.lastActivity_ms, this.lastReading_ms ?? 0);
-    if (since <= this.staleAfter * this.expectedInterval_s * 1000) return;
+    if (since <= this.staleThreshold_ms()) return;
     this.status({ kind: 'stale', sinceLastReading_ms: since, detail: `no reading from ${this.path} for ${(since / 1000).toFixed(1)} s; reopening the port` });
     if (!this.pendingGap) this.pendingGap = { from_ms: this.lastReading_ms ?? this.now(), reason: 'feed went stale' };
     this.port = null; // onClose ignores this port from now on
