@@ -305,6 +305,7 @@ function describeCommand(cmd: SourceCommand): string {
     case 'setWavelength': return 'change the wavelength';
     case 'takeBlank': return 'take a blank';
     case 'setInterval': return 'change the reading interval';
+    case 'scan': return 'take a spectrum';
     default: return cmd.type;
   }
 }

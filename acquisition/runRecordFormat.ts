@@ -122,6 +122,16 @@ export const eventSchema = z.discriminatedUnion('ev', [
     calibration: calibrationSchema.nullable().optional(),
   }),
   z.object({ ev: z.literal('warning'), ...at, message: text }),
+  /** A full-spectrum frame of the cell (added within version 1; see RUN_RECORD.md). */
+  z.object({
+    ev: z.literal('spectrum'),
+    ...at,
+    kind: z.enum(['absorbance', 'counts']),
+    wavelengths_nm: z.array(finite).max(100_000),
+    values: z.array(finite).max(100_000),
+    /** The absorbance maximum found in it, nm, or null. */
+    peak_nm: optionalFinite.optional(),
+  }).refine((e) => e.wavelengths_nm.length === e.values.length, { message: 'wavelengths_nm and values must have one length' }),
   z.object({ ev: z.literal('status'), ...at, status: sourceStatusSchema }),
   z.object({ ev: z.literal('rejected'), ...at, counts: z.record(z.string(), z.number().int().min(0)) }),
   z.object({

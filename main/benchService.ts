@@ -9,7 +9,7 @@
  */
 import { join } from 'node:path';
 import type { RunEvent } from '../acquisition/runRecordFormat';
-import type { Reading, SourceEvent } from '../acquisition/sourceTypes';
+import type { Reading, SourceEvent, SpectrumFrame } from '../acquisition/sourceTypes';
 import {
   CONTRACT_VERSION, LIMITS, parseRequest,
   type AnyReply, type BenchState, type BridgeEvent, type BridgeRequest, type RejectCounts, type SampleDetails, type SourceChoice,
@@ -23,6 +23,8 @@ import { SourceSlot } from './bench/sourceSlot';
 import { emptyRejectCounts, newRunId, recordFileName, sourceLabel } from './bench/runNaming';
 import { exportCsv } from './bench/runExport';
 import { listRecordFiles, resolveRecordName } from './bench/runsFolder';
+import { SpectrumWaiters, peakOffer } from './bench/peakOffer';
+import { bandMaximum } from '../acquisition/wavelengthChoice';
 
 type Listener = (event: BridgeEvent) => void;
 
@@ -39,6 +41,7 @@ export class BenchService {
   private replayPath: string | null = null;
   private lastRejected: { reason: keyof RejectCounts; line: string } | null = null;
   private busy: Promise<unknown> = Promise.resolve();
+  private readonly spectra = new SpectrumWaiters();
   private readonly state: BenchState;
 
   constructor(private readonly deps: BenchDeps) {
@@ -102,6 +105,14 @@ export class BenchService {
   handle(input: unknown): Promise<AnyReply> {
     const parsed = parseRequest(input);
     if (!parsed.ok) return Promise.resolve({ ok: false, error: parsed.error });
+    const fail = (err: unknown): AnyReply => ({ ok: false, error: err instanceof Refusal ? err.message : `${parsed.request.type} failed: ${oneLine(err)}` });
+    if (parsed.request.type === 'findPeak') {
+      // Only the scan command waits its turn; the wait for the frame does not hold up the
+      // requests behind it (a stop pressed meanwhile goes through).
+      const asked = this.busy.then(() => this.askForSpectrum());
+      this.busy = asked.catch(() => undefined);
+      return asked.then((w) => w.frame).then((f): AnyReply => ({ ok: true, value: peakOffer(f.frame, f.recorded) }), fail);
+    }
     const run = this.busy.then(() => this.dispatch(parsed.request)).then(
       (value): AnyReply => ({ ok: true, value }),
       (err: unknown): AnyReply => ({ ok: false, error: err instanceof Refusal ? err.message : `${parsed.request.type} failed: ${oneLine(err)}` }),
@@ -116,6 +127,19 @@ export class BenchService {
     if (this.state.phase === 'running') await this.stopRun('user', 'the program was closed');
     await this.closeSource();
     this.outbox.cancel();
+  }
+
+  /** Sends the scan command; resolves to the frame to come (wrapped, so the wait stays outside the request queue). */
+  private async askForSpectrum(): Promise<{ frame: Promise<{ frame: SpectrumFrame; recorded: boolean }> }> {
+    if (this.state.source.kind === 'replay') throw new Refusal('find the peak: a recorded run cannot take a spectrum; that needs a live instrument.');
+    const wait = this.spectra.expect(this.deps.spectrumTimeout_ms ?? 10_000);
+    try {
+      await this.source.command({ type: 'scan' }, 'find the peak');
+    } catch (err) {
+      wait.cancel();
+      throw err;
+    }
+    return { frame: wait.frame };
   }
 
   private async dispatch(req: BridgeRequest): Promise<unknown> {
@@ -134,6 +158,7 @@ export class BenchService {
         this.notWhileRunning('disconnect');
         await this.closeSource();
         return this.changed();
+      case 'findPeak': throw new Error('findPeak is answered outside the request queue');
       case 'takeBlank': {
         await this.source.command({ type: 'takeBlank' }, 'take the blank');
         this.state.blankTaken = true;
@@ -238,6 +263,7 @@ export class BenchService {
   }
 
   private async closeSource(): Promise<void> {
+    this.spectra.failAll('find the peak: the instrument was closed before it sent its spectrum; connect and try again.');
     await this.source.close();
     if (this.state.phase !== 'running') this.state.phase = 'idle';
   }
@@ -276,7 +302,16 @@ export class BenchService {
         this.changed();
         break;
       }
-      case 'spectrum': break; // wavelength choice from a spectrum is the screen's later work
+      case 'spectrum': {
+        const recorded = this.state.phase === 'running';
+        if (recorded) {
+          const f = e.frame;
+          const found = f.kind === 'absorbance' ? bandMaximum(f.wavelengths_nm, f.values) : null;
+          this.record.event({ ev: 'spectrum', t: f.deviceTime_s, frame: f, peak_nm: found?.ok && !found.atEdge ? found.wavelength_nm : null });
+        }
+        this.spectra.arrived(e.frame, recorded);
+        break;
+      }
     }
   }
 

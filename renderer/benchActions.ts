@@ -9,6 +9,8 @@ import { addMessage, applyEvent, type Store } from './store';
 
 export interface BenchActions {
   send<T extends RequestType>(request: RequestOf<T>): Promise<ReplyValue<T> | null>;
+  /** Like send, but a refusal is handed back to the caller (to show beside its button) instead of the messages line. */
+  ask<T extends RequestType>(request: RequestOf<T>): Promise<Reply<T>>;
 }
 
 function isBenchState(v: unknown): v is BenchState {
@@ -17,6 +19,18 @@ function isBenchState(v: unknown): v is BenchState {
 
 export function benchActions(bridge: RatelineBridge, store: Store): BenchActions {
   return {
+    async ask<T extends RequestType>(request: RequestOf<T>): Promise<Reply<T>> {
+      store.update((d) => { d.busy = true; });
+      let reply: Reply<T>;
+      try {
+        reply = await bridge.request(request);
+      } catch (err) {
+        const why = err instanceof Error ? err.message : String(err);
+        reply = { ok: false, error: `The bench service did not answer (${why}); check that it is still running.` };
+      }
+      store.update((d) => { d.busy = false; });
+      return reply;
+    },
     async send<T extends RequestType>(request: RequestOf<T>): Promise<ReplyValue<T> | null> {
       store.update((d) => { d.busy = true; });
       let reply: Reply<T>;

@@ -7,7 +7,7 @@
  */
 import { produce, type Draft } from 'immer';
 import type {
-  AnalysisResultView, BenchState, BridgeEvent, RejectReasonName, SourceStatusView,
+  AnalysisResultView, BenchState, PeakOffer, BridgeEvent, RejectReasonName, SourceStatusView,
 } from '../main/bridge/contract';
 import { RunSeries } from './runSeries';
 
@@ -45,6 +45,8 @@ export interface ScreenState {
   messages: ScreenMessage[];
   /** A request is on its way (buttons wait for its answer). */
   busy: boolean;
+  /** The last spectrum asked for and the wavelength it offers, or the sentence why there is none. */
+  peak: { offer: PeakOffer | null; problem: string | null; waiting: boolean; accepted_nm: number | null };
 }
 
 export function initialState(): ScreenState {
@@ -65,6 +67,7 @@ export function initialState(): ScreenState {
     marks: [],
     messages: [],
     busy: false,
+    peak: { offer: null, problem: null, waiting: false, accepted_nm: null },
   };
 }
 

@@ -4,7 +4,7 @@
  * tests can put small fakes in place of the serial port, the disk and the clock.
  * The real parts are wired in main/bench/benchWiring.ts.
  */
-import type { Reading, ReadingSource, SourceStatus } from '../../acquisition/sourceTypes';
+import type { Reading, ReadingSource, SourceStatus, SpectrumFrame } from '../../acquisition/sourceTypes';
 import type { AnalyzerOptions, RunAnalyzerLike } from '../../kinetics/analysisTypes';
 import type { SampleDetails, SourceChoice } from '../bridge/contract';
 
@@ -31,7 +31,8 @@ export type RecordEvent =
   | { ev: 'meta'; t: number | null; details: SampleDetails; wavelength_nm: number | null }
   | { ev: 'warning'; t: number | null; message: string }
   | { ev: 'gap'; t: number | null; from_ms: number; to_ms: number; reason: string }
-  | { ev: 'status'; t: number | null; status: SourceStatus };
+  | { ev: 'status'; t: number | null; status: SourceStatus }
+  | { ev: 'spectrum'; t: number | null; frame: SpectrumFrame; peak_nm: number | null };
 
 export interface RecordOpening {
   /** Full path of the new record (inside the runs folder). */
@@ -70,6 +71,8 @@ export interface BenchDeps {
   openRecord(opening: RecordOpening): Promise<RecordSink>;
   listPorts(): Promise<PortListing[]>;
   dialogs?: BenchDialogs;
+  /** How long to wait for the spectrum frame a scan asks for (ms; default 10 000). */
+  spectrumTimeout_ms?: number;
   /** Monotonic clock in ms (performance.now by default). */
   now_ms?: () => number;
 }

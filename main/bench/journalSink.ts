@@ -64,6 +64,10 @@ export async function openJournalSink(o: RecordOpening, now_ms: () => number = (
         case 'warning': journal.event({ ev: 'warning', h: h(), t: e.t, message: e.message }); break;
         case 'gap': journal.event({ ev: 'gap', h: h(), t: e.t, from_h: journal.hostOffset_ms(e.from_ms), to_h: journal.hostOffset_ms(e.to_ms), reason: e.reason }); break;
         case 'status': journal.event({ ev: 'status', h: h(), t: e.t, status: e.status }); break;
+        case 'spectrum': journal.event({
+          ev: 'spectrum', h: h(), t: e.t, kind: e.frame.kind,
+          wavelengths_nm: Array.from(e.frame.wavelengths_nm), values: Array.from(e.frame.values), peak_nm: e.peak_nm,
+        }); break;
       }
     },
     async close(stop) {

@@ -28,6 +28,8 @@ export const LIMITS = Object.freeze({
   maxPorts: 256,
   maxRecords: 1000,
   maxWarnings: 200,
+  /** Points of one spectrum frame sent to the screen. */
+  maxSpectrumPoints: 4096,
 });
 
 /** The results are pushed no more often than this (≤ 20 per second). */
@@ -138,6 +140,8 @@ export const RequestSchema = z.discriminatedUnion('type', [
   z.object({ type: z.literal('connect') }).strict(),
   z.object({ type: z.literal('disconnect') }).strict(),
   z.object({ type: z.literal('takeBlank') }).strict(),
+  /** Ask the connected instrument for one spectrum of the sample and find its absorbance maximum. */
+  z.object({ type: z.literal('findPeak') }).strict(),
   z.object({ type: z.literal('setWavelength'), wavelength_nm: z.number().min(190).max(1100) }).strict(),
   z.object({ type: z.literal('start') }).strict(),
   z.object({ type: z.literal('stop') }).strict(),
@@ -286,6 +290,29 @@ export const RecordInfoSchema = z.object({
   modified: z.string().max(40),
 });
 
+/** A spectrum of the sample and its absorbance maximum, offered as the measuring wavelength. */
+export const PeakOfferSchema = z.object({
+  /** Device time of the frame (s). */
+  deviceTime_s: finite,
+  wavelengths_nm: z.array(finite).max(LIMITS.maxSpectrumPoints),
+  /** Absorbance at each wavelength; null where none could be had (an opaque pixel of a counts frame). */
+  absorbance: z.array(finite.nullable()).max(LIMITS.maxSpectrumPoints),
+  /** The maximum found; null when none is worth offering. */
+  peak: z.object({
+    wavelength_nm: finite, absorbance: finite, pixel_nm: finite,
+    method: z.enum(['fit', 'threePoint', 'pixel']), points: nonNegInt, atEdge: z.boolean(),
+  }).nullable(),
+  /** The wavelength offered (0.1 nm, the step the instrument is set in), or null when none is offered. */
+  suggested_nm: z.number().min(190).max(1100).nullable(),
+  /** The one sentence the screen shows, e.g. "Absorbance maximum at 629.6 nm (from the spectrum of the sample); use it?". */
+  sentence: z.string().max(LIMITS.maxNote),
+  /** A caution beside it (a weak band), or null. */
+  caution: z.string().max(LIMITS.maxNote).nullable(),
+  /** The frame went into the run record (a run was going). */
+  recorded: z.boolean(),
+}).refine((o) => o.wavelengths_nm.length === o.absorbance.length, { message: 'spectrum arrays must have one length' });
+export type PeakOffer = z.infer<typeof PeakOfferSchema>;
+
 /** What each request answers with when it succeeds. */
 export const ReplyValueSchemas = {
   getState: BenchStateSchema,
@@ -295,6 +322,7 @@ export const ReplyValueSchemas = {
   connect: BenchStateSchema,
   disconnect: BenchStateSchema,
   takeBlank: BenchStateSchema,
+  findPeak: PeakOfferSchema,
   setWavelength: BenchStateSchema,
   start: BenchStateSchema,
   stop: BenchStateSchema,

@@ -8,6 +8,7 @@ import { BAUD_RATES, type RejectReasonName, type SourceChoice } from '../../main
 import type { BenchActions } from '../benchActions';
 import { h, setHidden, setText } from '../elements';
 import { addMessage, type ScreenState, type Store } from '../store';
+import { createPeakPanel } from './peakPanel';
 
 const REJECT_WORDS: Record<RejectReasonName, string> = {
   checksum: 'bad checksum', malformed: 'malformed', overlong: 'too long', nonFinite: 'not a number',
@@ -46,8 +47,9 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
   const sourceLabel = h('p', { class: 'small source-label' });
   const status = h('p', { class: 'status-line', 'data-testid': 'source-status', role: 'status' });
   const rate = h('p', { class: 'small' });
-  const wavelength = h('input', { type: 'number', min: 190, max: 1100, step: 1, value: 630, 'aria-label': 'Wavelength in nm' });
+  const wavelength = h('input', { type: 'number', min: 190, max: 1100, step: 0.1, value: 630, 'aria-label': 'Wavelength in nm', 'data-testid': 'wavelength' });
   const setWl = h('button', { type: 'button', class: 'small-button' }, 'Set');
+  const peak = createPeakPanel(store, actions, (nm) => { wavelength.value = String(nm); });
   const blank = h('button', { type: 'button', class: 'small-button' }, 'Take blank');
   const blankState = h('span', { class: 'small' });
   const blankHint = h('p', { class: 'advice-early', role: 'note' });
@@ -105,6 +107,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
     h('div', { class: 'button-row' }, use, disconnect),
     sourceLabel, status, rate,
     h('div', { class: 'field-group' }, h('label', { class: 'field' }, 'Wavelength / nm ', wavelength, ' ', setWl)),
+    peak.element,
     h('div', { class: 'button-row' }, blank, blankState), blankHint,
     h('h3', {}, 'Lines turned away'), rejectList, lastReject);
 
@@ -112,6 +115,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
   return {
     element,
     render(state) {
+      peak.render(state);
       const b = state.bench;
       if (b && !synced) {
         // Show the service's current choice once; after that the fields are the user's.
