@@ -4,40 +4,22 @@
  * shows the spectrum with its maximum marked and offers it, and accepting it sets the
  * wavelength field and the bench. A picture of the panel goes to test-artifacts/.
  */
-import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { defaultInstrumentSettings } from '../../acquisition/simulatedInstrument';
 import { DEMO_RUN } from '../../kinetics/reactionModel';
-import { openChromium, type OpenBrowser } from './chromium';
-import { ROOT, startServe, type ServeChild } from './serveProcess';
+import { ROOT } from './serveProcess';
+import { useScreenSession } from './screenSession';
 
 const ARTIFACTS = join(ROOT, 'test-artifacts');
 
 describe('find the peak on the screen', () => {
-  let dataDir: string;
-  let serve: ServeChild;
-  let browser: OpenBrowser;
-  const problems: string[] = [];
-
-  beforeAll(async () => {
-    dataDir = mkdtempSync(join(tmpdir(), 'rateline-peak-e2e-'));
-    serve = await startServe(['--data-dir', dataDir, '--speed', '50']);
-    browser = await openChromium({ width: 1280, height: 800 });
-    browser.page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
-    browser.page.on('console', (m) => { if (m.type() === 'error') problems.push(`console: ${m.text()}`); });
-  }, 120_000);
-
-  afterAll(async () => {
-    await browser?.close();
-    await serve?.stop();
-    if (dataDir) rmSync(dataDir, { recursive: true, force: true });
-  });
+  const session = useScreenSession('rateline-peak-e2e-', 50);
 
   it('offers the absorbance maximum of the sample and sets the wavelength from it', async () => {
-    const { page } = browser;
-    await page.goto(serve.url);
+    const { page } = session.browser;
+    await page.goto(session.serve.url);
     await page.getByText('Service: connected').waitFor({ timeout: 20_000 });
     const sentence = page.getByTestId('peak-sentence');
 
@@ -65,8 +47,8 @@ describe('find the peak on the screen', () => {
     await expect.poll(() => field.inputValue(), { timeout: 10_000 }).toBe(String(offered));
     await expect.poll(() => page.getByTestId('peak-done').textContent(), { timeout: 10_000 }).toBe(`Measuring wavelength set to ${offered.toFixed(1)} nm.`);
     // the bench holds it too: a fresh page shows it in the field
-    const again = await browser.context.newPage();
-    await again.goto(serve.url);
+    const again = await session.browser.context.newPage();
+    await again.goto(session.serve.url);
     await again.getByText('Service: connected').waitFor({ timeout: 20_000 });
     await expect.poll(() => again.getByTestId('wavelength').inputValue(), { timeout: 10_000 }).toBe(String(offered));
     await again.close();
@@ -82,6 +64,6 @@ describe('find the peak on the screen', () => {
     await page.setViewportSize({ width: 1280, height: 1300 });
     await page.waitForTimeout(300);
     await page.locator('section.panel.source').screenshot({ path: join(ARTIFACTS, 'peak-finder.png') });
-    expect(problems).toEqual([]);
+    expect(session.problems).toEqual([]);
   }, 180_000);
 });

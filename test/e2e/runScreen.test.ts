@@ -2,12 +2,11 @@
  * The run screen end to end: the real `rateline serve` (simulated instrument, fast),
  * Debian's Chromium, a person's actions (keys and a drag), and the run record on disk.
  */
-import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync, readdirSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { openChromium, type OpenBrowser } from './chromium';
-import { ROOT, startServe, type ServeChild } from './serveProcess';
+import { describe, expect, it } from 'vitest';
+import { ROOT } from './serveProcess';
+import { useScreenSession } from './screenSession';
 
 const ARTIFACTS = join(ROOT, 'test-artifacts');
 
@@ -37,28 +36,11 @@ function countIn(text: string | null): number {
 }
 
 describe('run screen against the real bench service', () => {
-  let dataDir: string;
-  let serve: ServeChild;
-  let browser: OpenBrowser;
-  const problems: string[] = [];
-
-  beforeAll(async () => {
-    dataDir = mkdtempSync(join(tmpdir(), 'rateline-e2e-'));
-    serve = await startServe(['--data-dir', dataDir, '--speed', '100']);
-    browser = await openChromium({ width: 1280, height: 800 });
-    browser.page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
-    browser.page.on('console', (m) => { if (m.type() === 'error') problems.push(`console: ${m.text()}`); });
-  }, 120_000);
-
-  afterAll(async () => {
-    await browser?.close();
-    await serve?.stop();
-    if (dataDir) rmSync(dataDir, { recursive: true, force: true });
-  });
+  const session = useScreenSession('rateline-e2e-', 100);
 
   it('runs a simulated run from start to the stop advice, and the record holds every reading the screen counted', async () => {
-    const { page } = browser;
-    await page.goto(serve.url);
+    const { page } = session.browser;
+    await page.goto(session.serve.url);
     await page.getByText('Service: connected').waitFor({ timeout: 20_000 });
     await expect(page.getByTestId('demo-banner').isVisible()).resolves.toBe(true);
 
@@ -112,7 +94,7 @@ describe('run screen against the real bench service', () => {
     expect(screenCount).toBeGreaterThan(30);
     expect(countIn(await page.getByTestId('drawn').textContent())).toBe(screenCount);
 
-    const files = recordFiles(dataDir);
+    const files = recordFiles(session.dataDir);
     expect(files).toHaveLength(1);
     const rec = readRecord(files[0]!);
     expect(rec.readings.length).toBe(screenCount);
@@ -122,11 +104,11 @@ describe('run screen against the real bench service', () => {
     for (let i = 1; i < rec.readings.length; i++) expect(rec.readings[i]![0]!).toBeGreaterThan(rec.readings[i - 1]![0]!);
     expect(rec.readings[0]![1]!).toBeGreaterThan(0.55);
     expect(rec.readings[0]![1]!).toBeLessThan(0.75);
-    expect(problems).toEqual([]);
+    expect(session.problems).toEqual([]);
   }, 180_000);
 
   it('exports the run as CSV with every reading, and says so', async () => {
-    const { page } = browser;
+    const { page } = session.browser;
     const count = countIn(await page.getByTestId('drawn').textContent());
     await page.getByRole('button', { name: 'Export CSV' }).click();
     const msg = page.locator('.message.info');
@@ -138,7 +120,7 @@ describe('run screen against the real bench service', () => {
   });
 
   it('refuses a port that is not there in one sentence, and keeps what was recorded', async () => {
-    const { page } = browser;
+    const { page } = session.browser;
     const before = countIn(await page.getByTestId('drawn').textContent());
     await page.getByRole('radio', { name: 'Serial port' }).check();
     await page.getByRole('combobox', { name: 'Serial port' }).fill('/nonexistent/rateline-port');
@@ -150,12 +132,12 @@ describe('run screen against the real bench service', () => {
     expect(text).not.toMatch(/\n\s+at /); // no stack trace
     await page.screenshot({ path: join(ARTIFACTS, 'refused-port.png') });
     expect(countIn(await page.getByTestId('drawn').textContent())).toBe(before);
-    expect(recordFiles(dataDir)).toHaveLength(1);
+    expect(recordFiles(session.dataDir)).toHaveLength(1);
     await page.getByRole('radio', { name: 'Simulated (demo)' }).check();
   });
 
   it('catches up after a reload in mid-run: every reading so far, none twice', async () => {
-    const { page } = browser;
+    const { page } = session.browser;
     await page.getByRole('radio', { name: 'Simulated (demo)' }).check();
     await page.getByTestId('use-source').click();
     await expect.poll(async () => page.getByTestId('source-status').textContent(), { timeout: 20_000 }).toMatch(/^Connected/);
@@ -169,15 +151,15 @@ describe('run screen against the real bench service', () => {
     await page.waitForTimeout(500);
     const screenCount = countIn(await page.getByText(/^Stopped: \d+ readings recorded/).textContent());
     expect(countIn(await page.getByTestId('drawn').textContent())).toBe(screenCount);
-    const files = recordFiles(dataDir).sort((a, b) => statSync(a).mtimeMs - statSync(b).mtimeMs);
+    const files = recordFiles(session.dataDir).sort((a, b) => statSync(a).mtimeMs - statSync(b).mtimeMs);
     expect(files).toHaveLength(2);
     expect(readRecord(files[1]!).readings.length).toBe(screenCount);
-    expect(problems).toEqual([]);
+    expect(session.problems).toEqual([]);
   }, 120_000);
 
   it('plays a recorded run back and fits it again', async () => {
-    const { page } = browser;
-    const [first] = recordFiles(dataDir).sort((a, b) => statSync(a).mtimeMs - statSync(b).mtimeMs);
+    const { page } = session.browser;
+    const [first] = recordFiles(session.dataDir).sort((a, b) => statSync(a).mtimeMs - statSync(b).mtimeMs);
     const recorded = readRecord(first!).readings.length;
     await page.getByRole('radio', { name: 'Recorded run' }).check();
     const name = first!.split('/').pop()!;
@@ -191,11 +173,11 @@ describe('run screen against the real bench service', () => {
     await expect.poll(async () => page.getByTestId('k').textContent(), { timeout: 30_000 }).toMatch(/±/);
     if (await page.getByRole('button', { name: /^Stop/ }).isEnabled()) await page.getByRole('button', { name: /^Stop/ }).click();
     await page.getByText(/^Stopped: \d+ readings recorded/).waitFor({ timeout: 20_000 });
-    expect(problems).toEqual([]);
+    expect(session.problems).toEqual([]);
   }, 120_000);
 
   it('switches to the linearised views and back, saying what each shows', async () => {
-    const { page } = browser;
+    const { page } = session.browser;
     const caption = page.getByTestId('view-caption');
     await page.getByRole('tab', { name: 'ln(A − A∞) against t' }).click();
     await expect.poll(() => caption.textContent()).toMatch(/straight line means first order/);
@@ -205,14 +187,14 @@ describe('run screen against the real bench service', () => {
     await expect.poll(() => caption.textContent()).toMatch(/straight line means second order/);
     await page.getByRole('tab', { name: 'A against t' }).click();
     await expect.poll(() => caption.textContent()).toMatch(/^Absorbance against time/);
-    expect(problems).toEqual([]);
+    expect(session.problems).toEqual([]);
   });
 
   // Last: it ends the service.
   it('says plainly when the bench service goes away, and keeps what it shows', async () => {
-    const { page } = browser;
+    const { page } = session.browser;
     const before = countIn(await page.getByTestId('drawn').textContent());
-    await serve.stop();
+    await session.serve.stop();
     await page.getByText('Service: LOST, reload the page').waitFor({ timeout: 10_000 });
     await expect(page.getByText('Bench service lost: reload the page').isVisible()).resolves.toBe(true);
     expect(countIn(await page.getByTestId('drawn').textContent())).toBe(before);
