@@ -21,6 +21,8 @@ describe('the stop advice in words', () => {
   it('says what an early stop costs in the precision of k', () => {
     const w = adviceWords(withStop({ state: 'settled', suggested: false, earlyStopPossible: true, kRelCI95Now: 0.031, kRelCI95AtTarget: 0.018 }), true);
     expect(w.earlyStop).toBe('Stopping early is possible: k is known to ±3.1% now, against ±1.8% at the target.');
+    // The detail does not repeat the cost the early-stop line gives; it names the target.
+    expect(w.detail).toMatch(/^k has settled and the order is decided; the target \(87\.5% converted\) is not reached yet\.$/);
     expect(adviceWords(withStop({ earlyStopPossible: false }), true).earlyStop).toBeNull();
     // Once the stop is suggested there is nothing early about it.
     expect(adviceWords(withStop({ state: 'farEnough', suggested: true, earlyStopPossible: true }), true).earlyStop).toBeNull();

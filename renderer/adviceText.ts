@@ -39,7 +39,10 @@ export function adviceWords(result: AnalysisResultView | null, running: boolean)
     case 'settled':
       return {
         headline: s.suggested ? 'Far enough: stop now' : 'Settled: not yet at the target',
-        detail: s.reason || 'The rate constant has settled; the run has not reached its target yet.',
+        // With the early-stop line below, the engine's long reason would say the same twice.
+        detail: earlyStop !== null
+          ? `k has settled and the order is decided; the target (${formatPercent(1 - 2 ** -result.targetHalfLives, 1).replace(' ', '')} converted) is not reached yet.`
+          : s.reason || 'The rate constant has settled; the run has not reached its target yet.',
         earlyStop,
         tone: s.suggested ? 'ready' : 'progress',
       };
