@@ -74,6 +74,15 @@ export class RunData {
     return this.analyzer ? this.analyzer.result() : null;
   }
 
+  /** The result, or null when the analyzer fails: for a screen catching up or an export; the throttled analysis reports the fault. */
+  resultOrNull(): AnalysisResult | null {
+    try {
+      return this.result();
+    } catch {
+      return null;
+    }
+  }
+
   /**
    * Run-clock time now: the last reading's time plus the time since it arrived (0 before
    * any), converted to data seconds at the pace the recent readings came (a simulated or
