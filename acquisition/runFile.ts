@@ -6,14 +6,14 @@ import { readFile } from 'node:fs/promises';
 import { extname } from 'node:path';
 import { parseRunCsv } from './runCsv';
 import { RunRecordError, analysisSeries, parseRunRecord } from './journalReader';
-import { looksLikeRunRecordLine } from './runRecordFormat';
+import { looksLikeRunRecordLine, type RecordCalibration } from './runRecordFormat';
 
 export interface LoadedRun {
   time_s: Float64Array;
   absorbance: Float64Array;
   source:
     | { path: string; format: 'csv'; delimiter: ',' | ';'; decimalComma: boolean }
-    | { path: string; format: 'runRecord'; version: number; demo: boolean };
+    | { path: string; format: 'runRecord'; version: number; demo: boolean; calibration: RecordCalibration | null };
   /** Something the user should be told about the file (a run record recovered after a crash), or absent. */
   notice?: string;
 }
@@ -59,7 +59,7 @@ function loadRunRecord(text: string, path: string): LoadedRun {
   const run: LoadedRun = {
     time_s: series.time_s,
     absorbance: series.absorbance,
-    source: { path, format: 'runRecord', version: record.header.version, demo: record.header.demo },
+    source: { path, format: 'runRecord', version: record.header.version, demo: record.header.demo, calibration: record.header.calibration },
   };
   if (record.recovery.message) run.notice = record.recovery.message;
   return run;

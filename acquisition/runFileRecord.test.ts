@@ -37,7 +37,7 @@ describe('loadRun reads run records as well as CSV', () => {
     const { record, csv } = writeBoth('demo');
     const fromRecord = await loadRun(record);
     const fromCsv = await loadRun(csv);
-    expect(fromRecord.source).toEqual({ path: record, format: 'runRecord', version: 1, demo: true });
+    expect(fromRecord.source).toEqual({ path: record, format: 'runRecord', version: 1, demo: true, calibration: null });
     expect(fromCsv.source.format).toBe('csv');
     // Time is measured from the mixed event; the reading before it (the baseline) is left out.
     expect(Array.from(fromRecord.time_s)).toEqual(Array.from(fromCsv.time_s));

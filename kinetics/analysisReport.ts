@@ -107,7 +107,7 @@ export function buildReport(r: ReportInput): AnalysisResult {
     }
     if (!(fit.params[K] > 0)) warnings.push(`${driving} order: k is not positive; the data do not show a decay`);
   }
-  if (opts.signal && opts.weighted) warnings.push('weights from the absorbance noise model were applied to a concentration signal');
+  if (opts.signal && !opts.signal.absorbance && opts.weighted) warnings.push('weights from the absorbance noise model were applied to a concentration signal');
   const stop = r.advisor.update({
     points: r.pointsInWindow, time_s: r.lastTime_s, fitUsable: ok, kRelCI95Now: kRelNow, kRelCI95AtTarget: kRelTarget,
     fractionConverted: f, targetFraction: fTarget, targetHalfLives: opts.targetHalfLives, precision: opts.precision,

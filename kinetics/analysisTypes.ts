@@ -1,7 +1,8 @@
 /**
  * What the streaming engine reports. This is the one contract the command, the
  * bench service and the screens all read; the JSON output of `rateline analyze`
- * is this object (a value that cannot be had is null, never left out).
+ * is this object with the file and the calibration used beside it (a value that
+ * cannot be had is null, never left out).
  */
 
 export type IntegerOrder = 'zero' | 'first' | 'second';
@@ -111,8 +112,12 @@ export interface AnalyzerOptions {
   robust?: boolean;
   /** A∞ held at this value instead of fitted (first, second and n-th order); zero order uses it too. */
   fixedAInf?: number;
-  /** Signal label and unit when the data are concentrations (from a calibration); absorbance otherwise. */
-  signal?: { name: string; unit: string };
+  /**
+   * Signal label and unit when the data are concentrations (from a calibration); absorbance
+   * otherwise. `absorbance` gives the line back to absorbance, A = slope · y + intercept, so
+   * the absorbance noise model can still weigh the readings (weighted by default then).
+   */
+  signal?: { name: string; unit: string; absorbance?: { slope: number; intercept: number } };
 }
 
 /** The streaming analyzer's public face. */

@@ -221,7 +221,7 @@ export function predictConcentration(cal: Calibration, absorbance: number, readi
 }
 
 /** An absorbance series converted to concentration, c = (A − a)/slope, point by point. */
-export function absorbanceToConcentration(cal: Calibration, absorbance: Float64Array, count: number = absorbance.length): Float64Array {
+export function absorbanceToConcentration(cal: Pick<Calibration, 'slope_perM' | 'intercept_AU'>, absorbance: Float64Array, count: number = absorbance.length): Float64Array {
   const n = Math.min(count, absorbance.length);
   const out = new Float64Array(n);
   const a = cal.intercept_AU;

@@ -83,7 +83,7 @@ export class RunAnalyzer implements RunAnalyzerLike {
       ...options,
       targetHalfLives: options.targetHalfLives ?? 3,
       precision: options.precision ?? 0.05,
-      weighted: options.weighted ?? options.signal === undefined,
+      weighted: options.weighted ?? (options.signal === undefined || options.signal.absorbance !== undefined),
       sigmaT: options.sigmaT ?? 0.001,
       robust: options.robust ?? true,
     };
@@ -154,8 +154,13 @@ export class RunAnalyzer implements RunAnalyzerLike {
 
   private weightOf(y: number): number {
     if (!this.opts.weighted) return 1;
+    // A concentration from a calibration, y = (A − a)/slope, is linear in A, so its noise is
+    // σ_y = σ_A / slope at the absorbance it was read from: the same relative weights as in
+    // absorbance (and, the covariance being scaled by the reduced χ², the same k and SE).
+    const line = this.opts.signal?.absorbance;
+    const a = line ? line.slope * y + line.intercept : y;
     // Noise is never below its value at the blank (A = 0), however low a reading dips.
-    const s = absorbanceSigma(Math.max(0, y), this.opts.sigmaT);
+    const s = absorbanceSigma(Math.max(0, a), this.opts.sigmaT) / (line ? Math.abs(line.slope) : 1);
     return 1 / (s * s);
   }
 
@@ -181,8 +186,13 @@ export class RunAnalyzer implements RunAnalyzerLike {
 
   private fitAll(): Record<ModelName, ModelFit> {
     const s = this.series;
-    // "Not far below the blank": A∞ may sit at most 5% of the largest signal under zero.
-    const aInfMin = -0.05 * Math.max(0.1, this.maxSignal);
+    // "Not far below the blank": A∞ may sit at most 5% of the largest absorbance under zero.
+    // A calibrated signal takes the same bound mapped through its line, so that the fit in
+    // concentration is the absorbance fit in other units (the 0.1 AU floor has no meaning in M).
+    const line = this.opts.signal?.absorbance;
+    const aInfMin = line
+      ? (-0.05 * Math.max(0.1, Math.abs(line.slope * this.maxSignal + line.intercept)) - line.intercept) / line.slope
+      : -0.05 * Math.max(0.1, this.maxSignal);
     const base = { fixedAInf: this.opts.fixedAInf, aInfMin };
     const zero = fitZeroOrder(s, base);
     const first = fitFirstOrder(s, { ...base, previous: this.previous.first });

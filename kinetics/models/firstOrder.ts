@@ -101,7 +101,7 @@ export function fitFirstOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   // the relative precision of k is then far below its standard error.
   const m = brentMinimum(prof, lo, hi, 1e-9);
   const iter = m.iterations;
-  const k = Math.exp(m.x);
+  const k = polishK(s, Math.exp(m.x), opts, yMean, Math.exp(lo), Math.exp(hi));
   const lin = solveLinear(s, k, opts, yMean);
   p[K] = k; p[A0] = lin.aInf + lin.c; p[AINF] = lin.aInf;
   const warnings: string[] = [];
@@ -113,6 +113,45 @@ export function fitFirstOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   // covariance: the data have not fixed it, and leaving it out would make k's CI far too
   // narrow early in a run (k and A∞ trade against each other before the curve bends).
   return finishFit('first', firstOrderLaw, s, p, [true, true, aInfFree], iter < 200 && lin.c > 0, warnings);
+}
+
+/**
+ * dχ²/dk of the profile at k. By the envelope theorem the linear parameters (A∞, C),
+ * optimal at every k, drop out: dχ²/dk = −2 Σ w r C ∂g/∂k, with g = e^(−kτ)(1 + ½k²v)
+ * and ∂g/∂k = e^(−kτ)(k v − τ(1 + ½k²v)).
+ */
+function profileSlope(s: FitSeries, k: number, opts: ModelOptions, yMean: number): number {
+  const lin = solveLinear(s, k, opts, yMean);
+  let d = 0;
+  for (let i = 0; i < s.count; i++) {
+    const e = Math.exp(-k * s.tau_s[i]), v = s.v[i], tau = s.tau_s[i];
+    const g = e * (1 + 0.5 * k * k * v);
+    const r = s.y[i] - lin.aInf - lin.c * g;
+    d += s.w[i] * r * lin.c * e * (k * v - tau * (1 + 0.5 * k * k * v));
+  }
+  return -2 * d;
+}
+
+/**
+ * Brent's minimiser works from χ² values alone, so it finds k only to about √ε of
+ * machine precision (near the minimum χ² is flat to rounding). Two secant steps on the
+ * analytic slope dχ²/dk take k to the root of the slope, to near full precision: the same
+ * data in other units (a calibrated signal, c = (A − a)/slope) then give the same k.
+ * A step is kept only when it is small (the minimum was already bracketed) and stays
+ * inside the search interval.
+ */
+function polishK(s: FitSeries, k: number, opts: ModelOptions, yMean: number, kMin: number, kMax: number): number {
+  if (solveLinear(s, k, opts, yMean).c === 0) return k; // no decay: χ² does not depend on k
+  for (let it = 0; it < 2; it++) {
+    const h = 1e-6 * k;
+    const g0 = profileSlope(s, k, opts, yMean);
+    const curv = (profileSlope(s, k + h, opts, yMean) - profileSlope(s, k - h, opts, yMean)) / (2 * h);
+    if (!(curv > 0) || !Number.isFinite(g0)) return k;
+    const next = k - g0 / curv;
+    if (!(Math.abs(next - k) <= 1e-4 * k) || next <= kMin || next >= kMax) return k;
+    k = next;
+  }
+  return k;
 }
 
 /**

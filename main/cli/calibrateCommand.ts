@@ -4,16 +4,20 @@
  * slope and ε and their 95% intervals, the residual of every standard, R², the
  * linear-range warnings, and unknowns read back with their standard errors.
  * Concentrations come in the unit of the file's column (M, mM or µM) and results that
- * are concentrations are given in that unit; ε is always M⁻¹ cm⁻¹. Exit 0 done, 2 bad input.
+ * are concentrations are given in that unit; ε is always M⁻¹ cm⁻¹. `--save CAL.json` keeps
+ * the line as a calibration file (acquisition/calibrationFile.ts). Exit 0 done, 2 bad input.
  */
+import { existsSync, statSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { InputError } from './cliErrors';
 import { numberValue, parseListArgs } from './listOptions';
-import { concentrationColumn, parseNumericTable, readHeader } from './numericCsv';
+import { concentrationColumn, parseNumericTable, readHeader, type ConcentrationColumn } from './numericCsv';
+import { CalibrationFileError, calibrationFile, saveCalibrationFile } from '../../acquisition/calibrationFile';
+import { isoWithLocalOffset } from '../../acquisition/runRecordFormat';
 import { calibrate, predictConcentration, type Calibration, type CalibrationStandard } from '../../kinetics/calibration';
 import { formatInterval, formatWithUncertainty } from '../../kinetics/fit/report';
 
-const HELP = `usage: rateline calibrate FILE [--path-cm L] [--intercept] [--format text|json] [--predict A ...]
+const HELP = `usage: rateline calibrate FILE [--path-cm L] [--intercept] [--format text|json] [--predict A ...] [--save CAL.json]
 
   FILE           a CSV of standards: a header naming one concentration column
                  (concentration_M, concentration_mM or concentration_uM) and absorbance,
@@ -26,7 +30,10 @@ const HELP = `usage: rateline calibrate FILE [--path-cm L] [--intercept] [--form
   --format       text (default) or json
   --predict A …  absorbances of unknowns (the values after --predict, up to the next
                  option; put FILE before it): each is read back as a concentration, in
-                 the unit of the file's concentration column, with its standard error`;
+                 the unit of the file's concentration column, with its standard error
+  --save CAL.json  keep the line in a calibration file (never overwritten) for
+                 rateline analyze RUN --calibration CAL.json and rateline record
+                 --calibration CAL.json; concentrations in the unit of the file's column`;
 
 async function readText(file: string): Promise<string> {
   try {
@@ -41,7 +48,7 @@ async function readText(file: string): Promise<string> {
 
 export async function run(argv: string[]): Promise<number> {
   const cmd = 'calibrate';
-  const args = parseListArgs(cmd, argv, { 'path-cm': { kind: 'one' }, intercept: { kind: 'switch' }, format: { kind: 'one' }, predict: { kind: 'many' } });
+  const args = parseListArgs(cmd, argv, { 'path-cm': { kind: 'one' }, intercept: { kind: 'switch' }, format: { kind: 'one' }, predict: { kind: 'many' }, save: { kind: 'one' } });
   if (args.help) { console.log(HELP); return 0; }
   if (args.positional.length !== 1) {
     throw new InputError(`rateline calibrate: ${args.positional.length === 0 ? 'no file given' : `give one file only (got ${args.positional.join(', ')})`}; usage: rateline calibrate FILE [--intercept] [--predict A ...].`);
@@ -54,23 +61,11 @@ export async function run(argv: string[]): Promise<number> {
   const predict = (args.lists.get('predict') ?? []).map((raw) => numberValue(cmd, 'predict', raw, (x) => x > -1 && x < 10, 'an absorbance (put FILE before --predict)'));
   const hasIntercept = args.switches.has('intercept');
 
-  const text = await readText(file);
-  const header = readHeader(text);
-  if (!header) throw new InputError(`${file}: the file has no header row; the first line should name a concentration column (concentration_M, concentration_mM or concentration_uM) and absorbance.`);
-  const unit = concentrationColumn(header.names, file, header.line);
-  if ('error' in unit) throw new InputError(unit.error);
-  const table = parseNumericTable(text, file, [{ name: unit.name }, { name: 'absorbance' }], `${unit.name} and absorbance`);
-  if (!table.ok) throw new InputError(table.error);
-  const rows = table.table.rows;
-  if (rows.length === 0) throw new InputError(`${file}: no standards below the header (line ${table.table.headerLine}); add one line per reading of a standard.`);
-  const standards: CalibrationStandard[] = rows.map((r) => ({ concentration_M: r.values[0]! * unit.toMolar, absorbance: r.values[1]! }));
-  const outcome = calibrate(standards, { pathLength_cm, intercept: hasIntercept });
-  if (!outcome.ok) {
-    // The engine counts standards from 1; the user knows the file by its lines.
-    const m = /^standard (\d+) \([^)]*\): (.*)$/.exec(outcome.error);
-    throw new InputError(m ? `${file} line ${rows[Number(m[1]) - 1]!.line}: ${m[2]}` : `${file}: ${outcome.error}`);
+  const save = args.single.get('save');
+  if (save !== undefined && existsSync(save)) {
+    throw new InputError(`rateline calibrate: ${save} is already ${statSync(save).isDirectory() ? 'a folder' : 'a file'}, and a calibration file is never overwritten; choose another --save name.`);
   }
-  const cal = outcome.calibration;
+  const { cal, unit, rows, standards } = await fitStandardsFile(file, { pathLength_cm, intercept: hasIntercept });
   const f = unit.toMolar; // slope per file unit = slope per M × (M per file unit)
   const residuals = rows.map((r, i) => {
     const fitted = cal.slope_perM * standards[i]!.concentration_M + cal.intercept_AU;
@@ -110,9 +105,45 @@ export async function run(argv: string[]): Promise<number> {
     predictions,
     warnings: cal.warnings,
   };
-  if (format === 'json') console.log(JSON.stringify(result, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2));
-  else console.log(calibrationText(result, cal));
+  if (save !== undefined) {
+    try {
+      saveCalibrationFile(save, calibrationFile(cal, unit.unit, file, isoWithLocalOffset(new Date())));
+    } catch (err) {
+      if (err instanceof CalibrationFileError) throw new InputError(`rateline calibrate: ${err.message}`);
+      throw err;
+    }
+  }
+  if (format === 'json') console.log(JSON.stringify(save === undefined ? result : { ...result, saved: save }, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2));
+  else console.log(calibrationText(result, cal) + (save === undefined ? '' : `\nSaved to ${save} (rateline analyze RUN --calibration ${save} fits the run in ${unit.unit}).`));
   return 0;
+}
+
+export interface FittedStandards {
+  cal: Calibration;
+  unit: ConcentrationColumn;
+  rows: { line: number; values: (number | null)[] }[];
+  standards: CalibrationStandard[];
+}
+
+/** Reads a CSV of standards and fits the Beer–Lambert line; every problem is one InputError naming the file and line. */
+export async function fitStandardsFile(file: string, options: { pathLength_cm: number; intercept: boolean }): Promise<FittedStandards> {
+  const text = await readText(file);
+  const header = readHeader(text);
+  if (!header) throw new InputError(`${file}: the file has no header row; the first line should name a concentration column (concentration_M, concentration_mM or concentration_uM) and absorbance.`);
+  const unit = concentrationColumn(header.names, file, header.line);
+  if ('error' in unit) throw new InputError(unit.error);
+  const table = parseNumericTable(text, file, [{ name: unit.name }, { name: 'absorbance' }], `${unit.name} and absorbance`);
+  if (!table.ok) throw new InputError(table.error);
+  const rows = table.table.rows;
+  if (rows.length === 0) throw new InputError(`${file}: no standards below the header (line ${table.table.headerLine}); add one line per reading of a standard.`);
+  const standards: CalibrationStandard[] = rows.map((r) => ({ concentration_M: r.values[0]! * unit.toMolar, absorbance: r.values[1]! }));
+  const outcome = calibrate(standards, options);
+  if (!outcome.ok) {
+    // The engine counts standards from 1; the user knows the file by its lines.
+    const m = /^standard (\d+) \([^)]*\): (.*)$/.exec(outcome.error);
+    throw new InputError(m ? `${file} line ${rows[Number(m[1]) - 1]!.line}: ${m[2]}` : `${file}: ${outcome.error}`);
+  }
+  return { cal: outcome.calibration, unit, rows, standards };
 }
 
 const pm = (v: number, se: number | null): string => formatWithUncertainty(v, se);

@@ -20,6 +20,7 @@ import { defaultInstrumentSettings } from '../../acquisition/simulatedInstrument
 import { EXIT_BAD_INPUT, EXIT_OK, InputError } from './cliErrors';
 import { formatProgress, progressJson } from './recordProgress';
 import { openSerialForRecord } from './recordSerial';
+import { CalibrationFileError, readCalibrationFile, type CalibrationFile } from '../../acquisition/calibrationFile';
 import { PLAIN_SPEC_HELP, PlainSpecError, parsePlainSpec, plainIdentity, type PlainSpec } from '../../acquisition/plainSpec';
 
 const USAGE = `usage: rateline record --port PATH|sim --out FILE [options]
@@ -44,6 +45,8 @@ const USAGE = `usage: rateline record --port PATH|sim --out FILE [options]
   --sends absorbance|counts  simulated instrument only (counts: a blank is taken first)
   --progress text|json progress lines on standard output (default text)
   --progress-ms N      how often progress is printed (default 1000)
+  --calibration CAL    a calibration file (rateline calibrate --save) to keep in the record's
+                       header; rateline analyze then fits the run in its concentration unit
 
 --plain ${PLAIN_SPEC_HELP}
   The record's header keeps the spec in full (instrument identity: "plain delimited lines read as …").`;
@@ -92,7 +95,7 @@ export async function run(argv: string[]): Promise<number> {
         'path-cm': { type: 'string' }, ph: { type: 'string' }, buffer: { type: 'string' }, note: { type: 'string' },
         conc: { type: 'string', multiple: true }, volume: { type: 'string', multiple: true },
         plain: { type: 'string' }, speed: { type: 'string' }, seed: { type: 'string' }, sends: { type: 'string' },
-        progress: { type: 'string' }, 'progress-ms': { type: 'string' }, help: { type: 'boolean', short: 'h' },
+        progress: { type: 'string' }, 'progress-ms': { type: 'string' }, calibration: { type: 'string' }, help: { type: 'boolean', short: 'h' },
       },
     });
   } catch (err) {
@@ -125,6 +128,16 @@ export async function run(argv: string[]): Promise<number> {
   if (progressMode !== 'text' && progressMode !== 'json') throw new InputError(`rateline record: --progress "${progressMode}" is neither text nor json.`);
   if (!simulate && (o.speed !== undefined || o.seed !== undefined || o.sends !== undefined)) {
     throw new InputError('rateline record: --speed, --seed and --sends are for the simulated instrument only; drop them or add --simulate.');
+  }
+
+  let calibration: CalibrationFile | null = null;
+  if (o.calibration !== undefined) {
+    try {
+      calibration = readCalibrationFile(o.calibration);
+    } catch (err) {
+      if (err instanceof CalibrationFileError) throw new InputError(`rateline record: --calibration ${err.message}`);
+      throw err;
+    }
   }
 
   let plain: PlainSpec | null = null;
@@ -178,7 +191,9 @@ export async function run(argv: string[]): Promise<number> {
     started: isoWithLocalOffset(new Date()),
     program: { name: 'rateline', version: readProgramVersion() },
     run,
-    calibration: null,
+    // The whole calibration file: the record's calibration shape (label, signal, slope,
+    // intercept) with its range and uncertainty as further fields, which version 1 allows.
+    calibration,
     instrument,
     columns: [...READING_COLUMNS],
     demo: simulate,
