@@ -12,9 +12,9 @@ import {
 import type { SampleDetails } from '../bridge/contract';
 import type { RecordEvent, RecordOpening, RecordSink } from './benchPorts';
 import { ensureRunsFolder } from './runsFolder';
+import { PROGRAM } from '../programIdentity';
 import { dirname } from 'node:path';
 
-export const PROGRAM = { name: 'rateline', version: '0.1.0' } as const;
 
 function runMetadata(details: SampleDetails, wavelength_nm: number | null): RunMetadata {
   return {

@@ -3,7 +3,8 @@
  * one, into a new run record, printing live progress, and stops on Ctrl-C or SIGTERM
  * (closing the record cleanly), at the time limit, or when the advice says stop.
  */
-import { existsSync, readFileSync, statSync, unlinkSync } from 'node:fs';
+import { existsSync, statSync, unlinkSync } from 'node:fs';
+import { PROGRAM } from '../programIdentity';
 import { parseArgs } from 'node:util';
 import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import { DEMO_RUN } from '../../kinetics/reactionModel';
@@ -56,15 +57,6 @@ function number(name: string, raw: string | undefined, check: (v: number) => boo
   const v = Number(raw);
   if (raw.trim() === '' || !Number.isFinite(v) || !check(v)) throw new InputError(`rateline record: --${name} "${raw}" is not ${what}; give ${what}.`);
   return v;
-}
-
-function readProgramVersion(): string {
-  try {
-    const pkg = JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version?: unknown };
-    return typeof pkg.version === 'string' ? pkg.version : 'unknown';
-  } catch {
-    return 'unknown';
-  }
 }
 
 function parseConcentration(raw: string): RunMetadata['concentrations'][number] {
@@ -189,7 +181,7 @@ export async function run(argv: string[]): Promise<number> {
     format: RUN_RECORD_FORMAT,
     version: RUN_RECORD_VERSION,
     started: isoWithLocalOffset(new Date()),
-    program: { name: 'rateline', version: readProgramVersion() },
+    program: { ...PROGRAM },
     run,
     // The whole calibration file: the record's calibration shape (label, signal, slope,
     // intercept) with its range and uncertainty as further fields, which version 1 allows.
