@@ -15,6 +15,7 @@ import { JournalError, type Journal } from './journal';
 import { isoWithLocalOffset, type RunEvent } from './runRecordFormat';
 import type { RecorderOptions, RecorderOutcome, RecorderProgress, StopReason, TimeZero } from './recorderTypes';
 import type { DeviceIdentity, RejectReason, Reading, ReadingSource, SourceEvent, SourceStatus } from './sourceTypes';
+import { listenToSource } from './replaySource';
 
 export type { RecorderOptions, RecorderOutcome, RecorderProgress, StopReason, TimeZero } from './recorderTypes';
 
@@ -61,9 +62,11 @@ export class Recorder {
 
   /** Subscribes and opens the source. A source that cannot open stops the recording with reason 'error'. */
   async start(): Promise<void> {
-    this.unsubscribe.push(this.source.on((e) => this.guard(() => this.onSourceEvent(e))));
-    const replay = this.source as ReadingSource & { onRecorded?: (l: (e: RunEvent) => void) => () => void };
-    if (typeof replay.onRecorded === 'function') this.unsubscribe.push(replay.onRecorded((e) => this.guard(() => this.onRecordedEvent(e))));
+    this.unsubscribe.push(listenToSource(
+      this.source,
+      (e) => this.guard(() => this.onSourceEvent(e)),
+      (e) => this.guard(() => this.onRecordedEvent(e)),
+    ));
     try {
       await this.source.open();
     } catch (err) {

@@ -15,6 +15,21 @@ import type { RejectReason, Reading, ReadingSource, SourceCommand, SourceEvent, 
 
 export type ReplaySpeed = number | 'max';
 
+/**
+ * Listens to any source, and to a replay's own recorded events (time zero, marks) as well
+ * when the source is a replay; returns the one function that detaches both.
+ */
+export function listenToSource(
+  source: ReadingSource,
+  onEvent: SourceListener,
+  onRecorded: (event: RunEvent) => void,
+): () => void {
+  const replay = source as ReadingSource & { onRecorded?: (l: (e: RunEvent) => void) => () => void };
+  const offs = [source.on(onEvent)];
+  if (typeof replay.onRecorded === 'function') offs.push(replay.onRecorded(onRecorded));
+  return () => { for (const off of offs) off(); };
+}
+
 export const MIN_REPLAY_SPEED = 1;
 export const MAX_REPLAY_SPEED = 100;
 

@@ -6,8 +6,7 @@
 import type { RunEvent } from '../../acquisition/runRecordFormat';
 import type { ReadingSource, SourceCommand, SourceEvent } from '../../acquisition/sourceTypes';
 import { Refusal } from './refusal';
-
-type Replayable = ReadingSource & { onRecorded?: (listener: (e: RunEvent) => void) => () => void };
+import { listenToSource } from '../../acquisition/replaySource';
 
 export class SourceSlot {
   private source: ReadingSource | null = null;
@@ -24,10 +23,8 @@ export class SourceSlot {
     onRecorded: (e: RunEvent) => void,
   ): Promise<void> {
     try {
-      const source: Replayable = await create();
-      const offs = [source.on(onEvent)];
-      if (typeof source.onRecorded === 'function') offs.push(source.onRecorded(onRecorded));
-      this.detach = () => { for (const off of offs) off(); };
+      const source = await create();
+      this.detach = listenToSource(source, onEvent, onRecorded);
       this.source = source;
       await source.open();
     } catch (err) {
