@@ -23,21 +23,25 @@ export class RunFileError extends Error {
   override readonly name = 'RunFileError';
 }
 
-async function readText(path: string): Promise<string> {
+/**
+ * Reads a file the user named, as text; every way it can fail is one sentence naming
+ * the file. `expected` says what it should have been, e.g. "a run file (.jsonl or .csv)".
+ */
+export async function readUserText(path: string, expected = 'a run file (.jsonl or .csv)'): Promise<string> {
   try {
     return await readFile(path, 'utf8');
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
     if (code === 'ENOENT') throw new RunFileError(`${path}: no such file; check the path.`);
-    if (code === 'EISDIR') throw new RunFileError(`${path}: is a folder, not a run file; give the path of a .csv file.`);
+    if (code === 'EISDIR') throw new RunFileError(`${path}: is a folder, not ${expected}; give the path of the file.`);
     if (code === 'EACCES' || code === 'EPERM') throw new RunFileError(`${path}: not allowed to read it; check the file's permissions.`);
-    throw new RunFileError(`${path}: cannot be read (${code ?? String(err)}).`);
+    throw new RunFileError(`${path}: cannot be read (${code ?? String(err)}); check the path and the file's permissions.`);
   }
 }
 
 export async function loadRun(path: string): Promise<LoadedRun> {
   const ext = extname(path).toLowerCase();
-  const text = await readText(path);
+  const text = await readUserText(path);
   // A run record by its extension or by its header line (a record renamed to .txt is still one).
   if (ext === '.jsonl' || looksLikeRunRecordLine(text.slice(0, text.indexOf('\n') >>> 0))) return loadRunRecord(text, path);
   const parsed = parseRunCsv(text, path);

@@ -7,7 +7,7 @@
 import { InputError } from './cliErrors';
 import { numberOption, parseArgs } from './cliOptions';
 import { formatAnalysisText } from './analyzeReport';
-import { loadRun, RunFileError } from '../../acquisition/runFile';
+import { loadRun } from '../../acquisition/runFile';
 import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import { MIN_POINTS_TO_ESTIMATE } from '../../kinetics/stopAdvice';
 import { calibratedC0, coverageWarnings, resolveCalibration, signalOptions, toConcentration } from './calibratedSignal';
@@ -57,13 +57,7 @@ export async function run(argv: string[]): Promise<number> {
   if (from_s !== undefined && to_s !== undefined && !(to_s > from_s)) {
     throw new InputError(`rateline analyze: the fit window --from ${from_s} --to ${to_s} is empty; --to must be later than --from.`);
   }
-  let loaded;
-  try {
-    loaded = await loadRun(file);
-  } catch (err) {
-    if (err instanceof RunFileError) throw new InputError(err.message);
-    throw err;
-  }
+  const loaded = await loadRun(file);
   const { time_s, absorbance } = loaded;
   const calibration = await resolveCalibration(args.options.get('calibration'), loaded);
   // A record that was cut off (a crash, a pulled plug) is analysed as recovered; say so

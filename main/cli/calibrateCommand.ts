@@ -8,7 +8,7 @@
  * the line as a calibration file (acquisition/calibrationFile.ts). Exit 0 done, 2 bad input.
  */
 import { existsSync, statSync } from 'node:fs';
-import { readFile } from 'node:fs/promises';
+import { readUserText } from '../../acquisition/runFile';
 import { InputError } from './cliErrors';
 import { numberValue, parseListArgs } from './listOptions';
 import { concentrationColumn, parseNumericTable, readHeader, type ConcentrationColumn } from './numericCsv';
@@ -34,17 +34,6 @@ const HELP = `usage: rateline calibrate FILE [--path-cm L] [--intercept] [--form
   --save CAL.json  keep the line in a calibration file (never overwritten) for
                  rateline analyze RUN --calibration CAL.json and rateline record
                  --calibration CAL.json; concentrations in the unit of the file's column`;
-
-async function readText(file: string): Promise<string> {
-  try {
-    return await readFile(file, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    if (code === 'ENOENT') throw new InputError(`${file}: no such file; check the path.`);
-    if (code === 'EISDIR') throw new InputError(`${file}: is a folder, not a CSV of standards; give the path of a .csv file.`);
-    throw new InputError(`${file}: cannot be read (${code ?? String(err)}); check the path and the file's permissions.`);
-  }
-}
 
 export async function run(argv: string[]): Promise<number> {
   const cmd = 'calibrate';
@@ -127,7 +116,7 @@ export interface FittedStandards {
 
 /** Reads a CSV of standards and fits the Beer–Lambert line; every problem is one InputError naming the file and line. */
 export async function fitStandardsFile(file: string, options: { pathLength_cm: number; intercept: boolean }): Promise<FittedStandards> {
-  const text = await readText(file);
+  const text = await readUserText(file, 'a CSV of standards (.csv)');
   const header = readHeader(text);
   if (!header) throw new InputError(`${file}: the file has no header row; the first line should name a concentration column (concentration_M, concentration_mM or concentration_uM) and absorbance.`);
   const unit = concentrationColumn(header.names, file, header.line);

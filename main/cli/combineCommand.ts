@@ -8,14 +8,14 @@
  * per run analysed elsewhere: concentration or temperature, k, k_se) may stand in for run
  * files. Exit 0 done, 2 bad input.
  */
-import { readFile } from 'node:fs/promises';
+import { readUserText } from '../../acquisition/runFile';
 import { extname, resolve } from 'node:path';
 import { InputError } from './cliErrors';
 import { numberValue, parseListArgs } from './listOptions';
 import { CONCENTRATION_COLUMNS, parseNumericTable, readHeader } from './numericCsv';
 import { formatCombinedText } from './combineReport';
 import { parseRunCsv } from '../../acquisition/runCsv';
-import { RunRecordError, analysisSeries, parseRunRecord, type RunRecord } from '../../acquisition/journalReader';
+import { analysisSeries, parseRunRecord, type RunRecord } from '../../acquisition/journalReader';
 import { looksLikeRunRecordLine } from '../../acquisition/runRecordFormat';
 import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import { MIN_POINTS_TO_ESTIMATE } from '../../kinetics/stopAdvice';
@@ -59,17 +59,6 @@ export interface CombinedRun {
 export interface LeftOutRun {
   label: string;
   reason: string;
-}
-
-async function readText(file: string): Promise<string> {
-  try {
-    return await readFile(file, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    if (code === 'ENOENT') throw new InputError(`${file}: no such file; check the path.`);
-    if (code === 'EISDIR') throw new InputError(`${file}: is a folder, not a run file; give the path of a .jsonl or .csv file.`);
-    throw new InputError(`${file}: cannot be read (${code ?? String(err)}); check the path and the file's permissions.`);
-  }
 }
 
 /** --value FILE=X pairs, keyed by the resolved path, checked for number and duplicates. */
@@ -202,17 +191,11 @@ export async function run(argv: string[]): Promise<number> {
   const runs: CombinedRun[] = [];
   const leftOut: LeftOutRun[] = [];
   for (const file of args.positional) {
-    const text = await readText(file);
+    const text = await readUserText(file, 'a run file (.jsonl or .csv)');
     const option = values.get(resolve(file));
     const firstLine = text.slice(0, text.indexOf('\n') >>> 0);
     if (extname(file).toLowerCase() === '.jsonl' || looksLikeRunRecordLine(firstLine)) {
-      let record: RunRecord;
-      try {
-        record = parseRunRecord(text, file);
-      } catch (err) {
-        if (err instanceof RunRecordError) throw new InputError(err.message);
-        throw err;
-      }
+      const record = parseRunRecord(text, file);
       if (record.recovery.message) console.error(record.recovery.message);
       const x = option ? option.x : recordX(record, file, by, reagent);
       const series = analysisSeries(record);

@@ -9,9 +9,9 @@ import { writeFile } from 'node:fs/promises';
 import { basename } from 'node:path';
 import { InputError } from './cliErrors';
 import { parseArgs } from './cliOptions';
-import { runJcamp } from '../../acquisition/jcampExport';
-import { loadRun, RunFileError } from '../../acquisition/runFile';
-import { readRunRecord, RunRecordError } from '../../acquisition/journalReader';
+import { runJcamp, type JcampRun } from '../../acquisition/jcampExport';
+import { loadRun } from '../../acquisition/runFile';
+import { readRunRecord } from '../../acquisition/journalReader';
 import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import type { AnalysisResult } from '../../kinetics/analysisTypes';
 import { runCsv } from '../bench/runExport';
@@ -25,17 +25,10 @@ const HELP = `usage: rateline export FILE --to jcamp|csv --out OUT
               csv: comment lines with the run's details and fit, then one row a reading
   --out OUT   a new file; an existing file is never overwritten`;
 
-interface RunDetails {
-  title: string;
-  origin: string;
-  owner: string;
-  started: string | null;
-  wavelength_nm: number | null;
-  path_cm: number | null;
-  temperature_C: number | null;
-  demo: boolean;
+/** What the export says about the run besides its readings (the JCAMP-DX header fields, and the CSV's). */
+type RunDetails = Omit<JcampRun, 'time_s' | 'absorbance' | 'notes'> & {
   concentrations: { name: string; value: number; unit: string }[];
-}
+};
 
 function fitNotes(r: AnalysisResult): string[] {
   const m = r.models[r.drivingModel];
@@ -61,13 +54,7 @@ export async function run(argv: string[]): Promise<number> {
   if (!out) throw new InputError('rateline export: no --out given; name the new file to write.');
   if (existsSync(out)) throw new InputError(`rateline export: ${out} exists already; an export never overwrites a file, so give a new name.`);
 
-  let loaded;
-  try {
-    loaded = await loadRun(file);
-  } catch (err) {
-    if (err instanceof RunFileError) throw new InputError(err.message);
-    throw err;
-  }
+  const loaded = await loadRun(file);
   if (loaded.notice) console.error(loaded.notice);
   const details = await runDetails(file, loaded.source.format === 'runRecord');
   const analyzer = new RunAnalyzer();
@@ -104,13 +91,7 @@ async function runDetails(file: string, isRecord: boolean): Promise<RunDetails> 
     wavelength_nm: null, path_cm: null, temperature_C: null, demo: false, concentrations: [],
   };
   if (!isRecord) return plain;
-  let rec;
-  try {
-    rec = readRunRecord(file);
-  } catch (err) {
-    if (err instanceof RunRecordError) throw new InputError(err.message);
-    throw err;
-  }
+  const rec = readRunRecord(file);
   const h = rec.header;
   const id = h.instrument.identity;
   return {

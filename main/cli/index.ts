@@ -3,6 +3,8 @@
  * `rateline analyze` never loads the serial port or the web host.
  */
 import { EXIT_BAD_INPUT, EXIT_FAULT, InputError, type CommandModule } from './cliErrors';
+import { RunFileError } from '../../acquisition/runFile';
+import { RunRecordError } from '../../acquisition/journalReader';
 
 interface CommandEntry {
   summary: string;
@@ -42,7 +44,9 @@ export async function main(argv: string[]): Promise<number> {
     const mod = await entry.load();
     return await mod.run(rest);
   } catch (err) {
-    if (err instanceof InputError) {
+    // Errors a user can cause, from any layer, are one line and exit 2: the command's own
+    // (InputError) and the files' (a run file that cannot be read, a damaged run record).
+    if (err instanceof InputError || err instanceof RunFileError || err instanceof RunRecordError) {
       console.error(err.message);
       return EXIT_BAD_INPUT;
     }
