@@ -18,33 +18,25 @@ function isBenchState(v: unknown): v is BenchState {
 }
 
 export function benchActions(bridge: RatelineBridge, store: Store): BenchActions {
+  /** One request; a bridge that fails to answer becomes a refusal the user can read. */
+  async function ask<T extends RequestType>(request: RequestOf<T>): Promise<Reply<T>> {
+    store.update((d) => { d.busy = true; });
+    let reply: Reply<T>;
+    try {
+      reply = await bridge.request(request);
+    } catch (err) {
+      const why = err instanceof Error ? err.message : String(err);
+      reply = { ok: false, error: `The bench service did not answer (${why}); check that it is still running.` };
+    }
+    store.update((d) => { d.busy = false; });
+    return reply;
+  }
   return {
-    async ask<T extends RequestType>(request: RequestOf<T>): Promise<Reply<T>> {
-      store.update((d) => { d.busy = true; });
-      let reply: Reply<T>;
-      try {
-        reply = await bridge.request(request);
-      } catch (err) {
-        const why = err instanceof Error ? err.message : String(err);
-        reply = { ok: false, error: `The bench service did not answer (${why}); check that it is still running.` };
-      }
-      store.update((d) => { d.busy = false; });
-      return reply;
-    },
+    ask,
     async send<T extends RequestType>(request: RequestOf<T>): Promise<ReplyValue<T> | null> {
-      store.update((d) => { d.busy = true; });
-      let reply: Reply<T>;
-      try {
-        reply = await bridge.request(request);
-      } catch (err) {
-        const why = err instanceof Error ? err.message : String(err);
-        reply = { ok: false, error: `The bench service did not answer (${why}); check that it is still running.` };
-      }
-      store.update((d) => {
-        d.busy = false;
-        if (!reply.ok) addMessage(d, 'error', reply.error);
-      });
+      const reply = await ask(request);
       if (!reply.ok) {
+        store.update((d) => { addMessage(d, 'error', reply.error); });
         // A refused request may still have moved the bench (a port that failed to open):
         // fetch its state so the screen shows what is, not what was hoped for.
         if (request.type !== 'getState') {
