@@ -5,7 +5,6 @@
  * reads the other end with the same spec until its time limit. Every line sent within the
  * run must be in the record, as absorbance.
  */
-import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -13,6 +12,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { readRunRecord } from '../acquisition/journalReader';
 import { DelimitedReader } from '../acquisition/delimitedReader';
 import { parsePlainSpec, specOfIdentity } from '../acquisition/plainSpec';
+import { ChildGroup, exitOf, printed, socatPair } from './childProcesses';
 
 const root = join(import.meta.dirname, '..');
 const bin = join(root, 'bin', 'rateline.js');
@@ -23,44 +23,18 @@ const recordPath = join(dir, 'plain.jsonl');
 const sentPath = join(dir, 'sent.txt');
 const SPEC = 'time=1,time-unit=s,signal=2,signal-unit=%T,temperature=3,delimiter=tab,skip=1';
 const MAX_SECONDS = 60;
-const started: ChildProcess[] = [];
-
-function launch(args: string[], cmd = process.execPath): ChildProcess {
-  const p = spawn(cmd, cmd === process.execPath ? [bin, ...args] : args, { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] });
-  started.push(p);
-  return p;
-}
-
-function exitOf(p: ChildProcess): Promise<number | null> {
-  return new Promise((resolve) => (p.exitCode !== null || p.signalCode !== null ? resolve(p.exitCode) : p.on('exit', (code) => resolve(code))));
-}
-
-/** Resolves once the stream has printed text matching the pattern. */
-function printed(stream: NodeJS.ReadableStream, pattern: RegExp, what: string): Promise<void> {
-  return new Promise((resolve, reject) => {
-    let seen = '';
-    const timer = setTimeout(() => reject(new Error(`${what} did not happen: ${seen.slice(-500)}`)), 20_000);
-    stream.on('data', (d: Buffer) => {
-      seen += d.toString();
-      if (pattern.test(seen)) { clearTimeout(timer); resolve(); }
-    });
-  });
-}
+const children = new ChildGroup(root);
+/** `rateline ARGS`, or another program with `cmd`. */
+const launch = (args: string[], cmd = process.execPath) => children.launch(cmd, cmd === process.execPath ? [bin, ...args] : args);
 
 afterAll(async () => {
-  for (const p of started.reverse()) {
-    if (p.exitCode === null && p.signalCode === null) {
-      p.kill('SIGTERM');
-      await exitOf(p);
-    }
-  }
+  await children.stopAll();
   rmSync(dir, { recursive: true, force: true });
 });
 
 describe('rateline record from an instrument printing plain delimited lines', () => {
   it('records every line sent within the run, %T turned into absorbance, and says in the header how it read them', async () => {
-    const socat = launch(['-d', '-d', `pty,raw,echo=0,link=${devLink}`, `pty,raw,echo=0,link=${hostLink}`], 'socat');
-    await printed(socat.stderr!, /starting data transfer loop/, 'socat start');
+    await socatPair(children, devLink, hostLink);
     // The recorder opens its end first, so that nothing the instrument prints (the banner included) is missed.
     const recorder = launch(['record', '--port', hostLink, '--plain', SPEC, '--out', recordPath, '--max-seconds', String(MAX_SECONDS),
       '--progress', 'json', '--progress-ms', '100', '--wavelength-nm', '630', '--sample', 'demo dye, plain lines']);

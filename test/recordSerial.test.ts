@@ -4,7 +4,6 @@
  * records from the other, taking the blank first, until its time limit. The record is
  * left in test-artifacts/serial-record.jsonl.
  */
-import { spawn, type ChildProcess } from 'node:child_process';
 import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -12,6 +11,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { analysisSeries, readRunRecord } from '../acquisition/journalReader';
 import { ReadingFlag } from '../acquisition/sourceTypes';
 import { RunAnalyzer } from '../kinetics/runAnalyzer';
+import { ChildGroup, exitOf, socatPair } from './childProcesses';
 
 const root = join(import.meta.dirname, '..');
 const bin = join(root, 'bin', 'rateline.js');
@@ -20,40 +20,11 @@ const recordPath = join(artifacts, 'serial-record.jsonl');
 const dir = mkdtempSync(join(tmpdir(), 'rateline-record-serial-'));
 const devLink = join(dir, 'dev');
 const hostLink = join(dir, 'host');
-const started: ChildProcess[] = [];
-
-function launch(cmd: string, args: string[]): ChildProcess {
-  const p = spawn(cmd, args, { cwd: root, stdio: ['ignore', 'pipe', 'pipe'] });
-  started.push(p);
-  return p;
-}
-
-/** Resolves once socat has made both ptys and started copying between them. */
-function socatReady(p: ChildProcess): Promise<void> {
-  return new Promise((resolve, reject) => {
-    let err = '';
-    const timer = setTimeout(() => reject(new Error(`socat did not start: ${err}`)), 10_000);
-    p.stderr!.on('data', (d: Buffer) => {
-      err += d.toString();
-      if (/starting data transfer loop/.test(err)) {
-        clearTimeout(timer);
-        resolve();
-      }
-    });
-  });
-}
-
-function exitOf(p: ChildProcess): Promise<number | null> {
-  return new Promise((resolve) => (p.exitCode !== null ? resolve(p.exitCode) : p.on('exit', (code) => resolve(code))));
-}
+const children = new ChildGroup(root);
+const launch = (cmd: string, args: string[]) => children.launch(cmd, args);
 
 afterAll(async () => {
-  for (const p of started.reverse()) {
-    if (p.exitCode === null && p.signalCode === null) {
-      p.kill('SIGTERM');
-      await exitOf(p);
-    }
-  }
+  await children.stopAll();
   rmSync(dir, { recursive: true, force: true });
 });
 
@@ -61,8 +32,7 @@ describe('rateline record from a serial instrument', () => {
   it('takes the blank first from a counts device, then records and analyses until the limit', async () => {
     mkdirSync(artifacts, { recursive: true });
     rmSync(recordPath, { force: true }); // this test owns the name; a record itself is never overwritten
-    const socat = launch('socat', ['-d', '-d', `pty,raw,echo=0,link=${devLink}`, `pty,raw,echo=0,link=${hostLink}`]);
-    await socatReady(socat);
+    await socatPair(children, devLink, hostLink);
     const emulator = launch(process.execPath, [bin, 'emulate', '--port', devLink, '--counts', '--speed', '100', '--seed', '5']);
     let emulatorErr = '';
     emulator.stderr!.on('data', (d: Buffer) => (emulatorErr += d.toString()));

@@ -1,18 +1,13 @@
 import { describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { linearRegression, rSquared, sum, mean } from 'simple-statistics';
 import { demoStandardsCsv } from '../../test/fixtures/demoStandards';
+import { ratelineIn, ROOT } from '../../test/cli/ratelineCli';
 
-const root = join(__dirname, '..', '..');
+const root = ROOT;
 const fixture = join(root, 'test', 'fixtures', 'demo-standards.csv');
-const dir = mkdtempSync(join(tmpdir(), 'rateline-calibrate-'));
-const rateline = (...args: string[]) => {
-  const r = spawnSync(process.execPath, [join(root, 'bin', 'rateline.js'), ...args], { cwd: dir, encoding: 'utf8' });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-};
+const { dir, rateline } = ratelineIn('rateline-calibrate-');
 const json = (...args: string[]) => {
   const r = rateline(...args, '--format', 'json');
   expect(r.err).toBe('');

@@ -1,17 +1,11 @@
 import { beforeAll, describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { linearRegression, sum } from 'simple-statistics';
 import { demoHeader } from '../../test/fixtures/demoRecordHeader';
+import { ratelineIn } from '../../test/cli/ratelineCli';
 
-const root = join(__dirname, '..', '..');
-const dir = mkdtempSync(join(tmpdir(), 'rateline-combine-'));
-const rateline = (...args: string[]) => {
-  const r = spawnSync(process.execPath, [join(root, 'bin', 'rateline.js'), ...args], { cwd: dir, encoding: 'utf8' });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-};
+const { dir, rateline } = ratelineIn('rateline-combine-');
 const json = (...args: string[]) => {
   const r = rateline(...args, '--format', 'json');
   expect(r.code, r.err).toBe(0);

@@ -1,18 +1,12 @@
 import { beforeAll, describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { convert } from 'jcampconverter';
 import Papa from 'papaparse';
 import { runJcamp } from '../../acquisition/jcampExport';
+import { ratelineIn } from '../../test/cli/ratelineCli';
 
-const root = join(__dirname, '..', '..');
-const dir = mkdtempSync(join(tmpdir(), 'rateline-export-'));
-const rateline = (...args: string[]) => {
-  const r = spawnSync(process.execPath, [join(root, 'bin', 'rateline.js'), ...args], { cwd: dir, encoding: 'utf8' });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-};
+const { dir, rateline } = ratelineIn('rateline-export-');
 
 /** The demo run as the test reads it itself, straight from the simulated CSV. */
 let run: { t: number[]; a: number[] };

@@ -4,21 +4,16 @@
  * (DEMO.md: ε = 1.30e5 M⁻¹ cm⁻¹, 1.00 cm, a 5.0 µM run, A0 ≈ 0.65).
  */
 import { beforeAll, describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { linearRegression, sum } from 'simple-statistics';
 import { calibrationFileSchema } from '../../acquisition/calibrationFile';
 import { calibrationSchema } from '../../acquisition/runRecordFormat';
+import { ratelineIn, ROOT } from './ratelineCli';
 
-const root = join(__dirname, '..', '..');
+const root = ROOT;
 const standards = join(root, 'test', 'fixtures', 'demo-standards.csv');
-const dir = mkdtempSync(join(tmpdir(), 'rateline-calibrated-'));
-const rateline = (...args: string[]) => {
-  const r = spawnSync(process.execPath, [join(root, 'bin', 'rateline.js'), ...args], { cwd: dir, encoding: 'utf8' });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-};
+const { dir, rateline } = ratelineIn('rateline-calibrated-');
 const json = (...args: string[]) => {
   const r = rateline(...args, '--format', 'json');
   expect(r.err).toBe('');

@@ -1,15 +1,9 @@
 import { describe, expect, it, beforeAll } from 'vitest';
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, writeFileSync, readFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { writeFileSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
+import { ratelineIn } from './ratelineCli';
 
-const root = join(__dirname, '..', '..');
-const dir = mkdtempSync(join(tmpdir(), 'rateline-analyze-'));
-const rateline = (...args: string[]) => {
-  const r = spawnSync(process.execPath, [join(root, 'bin', 'rateline.js'), ...args], { cwd: dir, encoding: 'utf8' });
-  return { code: r.status, out: r.stdout, err: r.stderr };
-};
+const { dir, rateline } = ratelineIn('rateline-analyze-');
 
 const MODEL_KEYS = ['k', 'kStdErr', 'kCI95', 'a0', 'aInf', 'halfLife_s', 'halfLifeStdErr_s', 'aicc', 'rss', 'dof'];
 
