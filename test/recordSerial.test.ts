@@ -8,8 +8,8 @@ import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { analysisSeries, readRunRecord } from '../acquisition/journalReader';
-import { ReadingFlag } from '../acquisition/sourceTypes';
+import { analysisSeries, readRunRecord } from '../acquisition/record/journalReader';
+import { ReadingFlag } from '../acquisition/sources/sourceTypes';
 import { RunAnalyzer } from '../kinetics/runAnalyzer';
 import { ChildGroup, exitOf, socatPair } from './childProcesses';
 

@@ -4,7 +4,7 @@
  * tests can put small fakes in place of the serial port, the disk and the clock.
  * The real parts are wired in main/bench/benchWiring.ts.
  */
-import type { Reading, ReadingSource, SourceStatus, SpectrumFrame } from '../../acquisition/sourceTypes';
+import type { Reading, ReadingSource, SourceStatus, SpectrumFrame } from '../../acquisition/sources/sourceTypes';
 import type { AnalyzerOptions, RunAnalyzerLike } from '../../kinetics/analysisTypes';
 import type { SampleDetails, SourceChoice } from '../bridge/contract';
 

@@ -4,11 +4,11 @@
  * does the crash-safe writing (fsync policy, never overwriting).
  */
 import { performance } from 'node:perf_hooks';
-import { Journal } from '../../acquisition/journal';
+import { Journal } from '../../acquisition/record/journal';
 import {
   READING_COLUMNS, RUN_RECORD_FORMAT, RUN_RECORD_VERSION, emptyRunMetadata, isoWithLocalOffset,
   type RecordHeader, type RunMetadata,
-} from '../../acquisition/runRecordFormat';
+} from '../../acquisition/record/runRecordFormat';
 import type { SampleDetails } from '../bridge/contract';
 import type { RecordEvent, RecordOpening, RecordSink } from './benchPorts';
 import { ensureRunsFolder } from './runsFolder';

@@ -4,7 +4,7 @@
  * turns it, or any other failure, into a one-line reply.
  */
 import { join } from 'node:path';
-import type { SpectrumFrame } from '../../acquisition/sourceTypes';
+import type { SpectrumFrame } from '../../acquisition/sources/sourceTypes';
 import type { BridgeRequest } from '../bridge/contract';
 import type { BenchSession } from './benchSession';
 import { Refusal } from './refusal';

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { AnalysisResult } from '../../kinetics/analysisTypes';
-import type { RejectReason, SourceStatus } from '../../acquisition/sourceTypes';
+import type { RejectReason, SourceStatus } from '../../acquisition/sources/sourceTypes';
 import {
   EventSchema, LIMITS, RequestSchema, parseRequest,
   type AnalysisResultView, type RejectReasonName, type SourceStatusView,

@@ -254,7 +254,7 @@ export const ReadingsBatchSchema = z.object({
   fromIndex: nonNegInt,
   time_s: z.array(finite).max(LIMITS.maxBatchPoints),
   absorbance: z.array(finite).max(LIMITS.maxBatchPoints),
-  /** Bit set per reading (see ReadingFlag in acquisition/sourceTypes.ts). */
+  /** Bit set per reading (see ReadingFlag in acquisition/sources/sourceTypes.ts). */
   flags: z.array(nonNegInt).max(LIMITS.maxBatchPoints),
 }).refine((b) => b.time_s.length === b.absorbance.length && b.flags.length === b.time_s.length, {
   message: 'readings batch arrays must have one length',
