@@ -2,7 +2,7 @@
 import { closeSync, openSync, readSync } from 'node:fs';
 import { basename } from 'node:path';
 import { readRunRecord } from '../record/journalReader';
-import { ReplaySource, timelineFromRecord, timelineFromSeries, type ReplayOptions } from '../sources/replaySource';
+import { ReplaySource, timelineFromRecord, timelineFromReadings, type ReplayOptions } from '../sources/replaySource';
 import { loadRun } from './runFile';
 import { looksLikeRunRecordLine } from '../record/runRecordFormat';
 
@@ -18,7 +18,7 @@ export async function replayFromFile(path: string, options: ReplayOptions = {}):
   const loaded = await loadRun(path);
   // A record whose header is too long to peek at is still found by loadRun.
   if (loaded.source.format === 'runRecord') return new ReplaySource(timelineFromRecord(readRunRecord(path)), { ...options, label });
-  return new ReplaySource(timelineFromSeries(loaded.time_s, loaded.absorbance), { ...options, label });
+  return new ReplaySource(timelineFromReadings(loaded.time_s, loaded.absorbance), { ...options, label });
 }
 
 /** Peeks at the first line only; a file that cannot be read is left to loadRun, which says why. */

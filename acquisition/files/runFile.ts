@@ -5,7 +5,7 @@
 import { readFile } from 'node:fs/promises';
 import { extname } from 'node:path';
 import { parseRunCsv } from './runCsv';
-import { RunRecordError, analysisSeries, parseRunRecord } from '../record/journalReader';
+import { RunRecordError, analysisReadings, parseRunRecord } from '../record/journalReader';
 import { looksLikeRunRecordLine, type RecordCalibration } from '../record/runRecordFormat';
 
 export interface LoadedRun {
@@ -59,10 +59,10 @@ function loadRunRecord(text: string, path: string): LoadedRun {
     if (err instanceof RunRecordError) throw new RunFileError(err.message);
     throw err;
   }
-  const series = analysisSeries(record);
+  const readings = analysisReadings(record);
   const run: LoadedRun = {
-    time_s: series.time_s,
-    absorbance: series.absorbance,
+    time_s: readings.time_s,
+    absorbance: readings.absorbance,
     source: { path, format: 'runRecord', version: record.header.version, demo: record.header.demo, calibration: record.header.calibration },
   };
   if (record.recovery.message) run.notice = record.recovery.message;

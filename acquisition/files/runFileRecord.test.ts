@@ -33,7 +33,7 @@ function writeBoth(name: string, close = true): { record: string; csv: string } 
 }
 
 describe('loadRun reads run records as well as CSV', () => {
-  it('gives the same series from a record as from the CSV of the same readings', async () => {
+  it('gives the same readings from a record as from the CSV of the same readings', async () => {
     const { record, csv } = writeBoth('demo');
     const fromRecord = await loadRun(record);
     const fromCsv = await loadRun(csv);

@@ -48,7 +48,7 @@ describe('absorbance from counts', () => {
 });
 
 describe('baseline check at the blank', () => {
-  const series = (n: number, drift_perS: number, sd: number, seed = 3) => {
+  const blankReadings = (n: number, drift_perS: number, sd: number, seed = 3) => {
     const rng = seededRandom(seed);
     const t: number[] = [], s: number[] = [], d: number[] = [];
     for (let i = 0; i < n; i++) {
@@ -60,7 +60,7 @@ describe('baseline check at the blank', () => {
   };
 
   it('reports noise and drift that agree with an independent regression', () => {
-    const { t, s, d } = series(40, -2, 15);
+    const { t, s, d } = blankReadings(40, -2, 15);
     const r = analyzeBlank(t, s, d, 630);
     const net = s.map((v, i) => v - d[i]!);
     // simple-statistics (independent library): slope by least squares and the sample SD
@@ -76,11 +76,11 @@ describe('baseline check at the blank', () => {
 
   it('warns when the lamp drifts (not warmed up) and stays quiet when it is steady', () => {
     // −20 counts/s on 50000 is 0.0104 AU/min, past the 0.001 AU/min rule of thumb
-    const drifting = series(40, -20, 10);
+    const drifting = blankReadings(40, -20, 10);
     const r1 = analyzeBlank(drifting.t, drifting.s, drifting.d, 630);
     expect(r1.check!.warmedUp).toBe(false);
     expect(r1.warnings.join(' ')).toMatch(/warmed up/);
-    const steady = series(40, 0, 10);
+    const steady = blankReadings(40, 0, 10);
     const r2 = analyzeBlank(steady.t, steady.s, steady.d, 630);
     expect(r2.check!.warmedUp).toBe(true);
     expect(r2.warnings).toEqual([]);
@@ -91,14 +91,14 @@ describe('baseline check at the blank', () => {
     let alarms = 0;
     const trials = 400;
     for (let seed = 1; seed <= trials; seed++) {
-      const { t, s, d } = series(5, 0, 50, seed); // a 5-reading blank with σ_T = 0.001 on 50000 counts
+      const { t, s, d } = blankReadings(5, 0, 50, seed); // a 5-reading blank with σ_T = 0.001 on 50000 counts
       if (!analyzeBlank(t, s, d, 630).check!.warmedUp) alarms++;
     }
     expect(alarms / trials).toBeLessThan(0.08);
     // negative control: with a bare 2-SE rule and 3 degrees of freedom the false alarms are far more frequent
     let naive = 0;
     for (let seed = 1; seed <= trials; seed++) {
-      const { t, s, d } = series(5, 0, 50, seed);
+      const { t, s, d } = blankReadings(5, 0, 50, seed);
       const c = analyzeBlank(t, s, d, 630).check!;
       if (Math.abs(c.drift_AUperMin) > 0.001 && Math.abs(c.drift_AUperMin) > 2 * c.driftStdErr_AUperMin) naive++;
     }

@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { Journal, JournalError, type JournalFs } from './journal';
-import { RunRecordError, analysisSeries, parseRunRecord, readRunRecord } from './journalReader';
+import { RunRecordError, analysisReadings, parseRunRecord, readRunRecord } from './journalReader';
 import { appendNote, readNotes, sidecarPath } from './recordNotes';
 import { demoHeader } from '../../test/fixtures/demoRecordHeader';
 import { ReadingFlag, type Reading } from '../sources/sourceTypes';
@@ -100,7 +100,7 @@ describe('run record round trip', () => {
     j.event({ ev: 'mixed', h: 0, t: 12, wall: '2026-12-01T18:40:01.000+01:00' });
     for (let t = 12; t <= 15; t++) j.reading(reading(t, 0.6 - 0.01 * t));
     j.close();
-    const s = analysisSeries(readRunRecord(path));
+    const s = analysisReadings(readRunRecord(path));
     expect(Array.from(s.time_s)).toEqual([0, 1, 2, 3]);
     expect(s.absorbance[0]).toBeCloseTo(0.48, 12);
     expect(s.timeZero_s).toBe(12);

@@ -275,12 +275,12 @@ class ReadingColumns {
 }
 
 /**
- * The series to analyse: readings from time zero (the first `mixed` event) on, with
+ * The readings to analyse: readings from time zero (the first `mixed` event) on, with
  * time measured from it. Readings before mixing (the blank, the baseline) are kept in
  * the record but are not part of the kinetics. Without a `mixed` event, the device
  * times are used as they are.
  */
-export function analysisSeries(record: RunRecord): { time_s: Float64Array; absorbance: Float64Array; timeZero_s: number | null; firstIndex: number } {
+export function analysisReadings(record: RunRecord): { time_s: Float64Array; absorbance: Float64Array; timeZero_s: number | null; firstIndex: number } {
   const mixed = record.events.find((p) => p.event.ev === 'mixed');
   const r = record.readings;
   if (!mixed) return { time_s: r.t_s.slice(), absorbance: r.absorbance.slice(), timeZero_s: null, firstIndex: 0 };

@@ -6,9 +6,9 @@ import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import { DEMO_RUN, simulateRun } from '../../kinetics/reactionModel';
 import { demoHeader } from '../../test/fixtures/demoRecordHeader';
 import { Journal, type JournalFs } from './journal';
-import { analysisSeries, readRunRecord } from './journalReader';
+import { analysisReadings, readRunRecord } from './journalReader';
 import { Recorder } from './recorder';
-import { ReplaySource, timelineFromRecord, timelineFromSeries } from '../sources/replaySource';
+import { ReplaySource, timelineFromRecord, timelineFromReadings } from '../sources/replaySource';
 import { SimulatedSource } from '../sources/simulatedSource';
 import { defaultInstrumentSettings } from '../sources/simulatedInstrument';
 
@@ -21,7 +21,7 @@ afterEach(() => rmSync(dir, { recursive: true, force: true }));
 /** The demo run of DEMO.md (invented data): first order, k = 3.5 × 10⁻³ s⁻¹, A0 0.65, A∞ 0.005, 1 s readings. */
 function demoSource(duration_s = 900, withEvents = true): ReplaySource {
   const run = simulateRun({ ...DEMO_RUN, duration_s });
-  if (!withEvents) return new ReplaySource(timelineFromSeries(run.time_s, run.absorbance, 630), { speed: 'max' });
+  if (!withEvents) return new ReplaySource(timelineFromReadings(run.time_s, run.absorbance, 630), { speed: 'max' });
   const path = join(dir, `source-${duration_s}.jsonl`);
   const j = Journal.create(path, demoHeader(), { timer: false });
   // Ten seconds of baseline before mixing, which the analysis must leave out.
@@ -61,10 +61,10 @@ describe('recorder', () => {
     expect(rec.events.find((e) => e.event.ev === 'stop')!.event).toMatchObject({ reason: 'sourceEnded' });
     expect(kinds).not.toContain('meta'); // the wavelength stayed the header's
 
-    // The analyzer saw exactly the record's analysis series: the same result as analysing the file.
+    // The analyzer saw exactly the record's analysis readings: the same result as analysing the file.
     expect(analyzer.count).toBe(901);
     const again = new RunAnalyzer();
-    const s = analysisSeries(rec);
+    const s = analysisReadings(rec);
     for (let i = 0; i < s.time_s.length; i++) again.add(s.time_s[i]!, s.absorbance[i]!);
     expect(outcome.result!.models.first.k).toBe(again.result().models.first.k);
     // DEMO.md: k_obs = 3.5 × 10⁻³ s⁻¹; the run's 95% CI should hold it (a single seeded run, so a loose check).

@@ -8,7 +8,7 @@ import { demoHeader } from '../../test/fixtures/demoRecordHeader';
 import { Journal } from '../record/journal';
 import { readRunRecord, type RunRecord } from '../record/journalReader';
 import { replayFromFile } from '../files/replayFile';
-import { ReplaySource, timelineFromRecord, timelineFromSeries } from './replaySource';
+import { ReplaySource, timelineFromRecord, timelineFromReadings } from './replaySource';
 import type { RunEvent } from '../record/runRecordFormat';
 import type { Reading, SourceEvent } from './sourceTypes';
 
@@ -74,10 +74,10 @@ describe('replay of a run record', () => {
     await source.close();
   });
 
-  it('plays a plain series (a CSV run)', async () => {
+  it('plays plain readings (a CSV run)', async () => {
     const t = Float64Array.from([0, 1, 2]);
     const a = Float64Array.from([0.6, 0.5, 0.4]);
-    const source = new ReplaySource(timelineFromSeries(t, a), { speed: 'max' });
+    const source = new ReplaySource(timelineFromReadings(t, a), { speed: 'max' });
     const c = collect(source);
     await source.open();
     await c.ended;

@@ -69,8 +69,8 @@ export function timelineFromRecord(record: RunRecord): ReplayTimeline {
   };
 }
 
-/** A plain series (a CSV run): readings only, time as given. */
-export function timelineFromSeries(time_s: Float64Array, absorbance: Float64Array, wavelength_nm: number | null = null): ReplayTimeline {
+/** Plain readings (a CSV run): readings only, time as given. */
+export function timelineFromReadings(time_s: Float64Array, absorbance: Float64Array, wavelength_nm: number | null = null): ReplayTimeline {
   return { t_s: time_s, absorbance, wavelength_nm, events: [] };
 }
 

@@ -7,7 +7,7 @@
 import {
   CONTRACT_VERSION, type BenchState, type BridgeEvent, type RejectCounts,
 } from '../bridge/contract';
-import type { BenchDeps } from './benchPorts';
+import type { BenchDeps } from './benchDependencies';
 import { Outbox } from './outbox';
 import { SpectrumWaiters } from './peakOffer';
 import { RecordWriter } from './recordWriter';

@@ -15,7 +15,7 @@ import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import { DEMO_RUN } from '../../kinetics/reactionModel';
 import type { SourceChoice } from '../bridge/contract';
 import { BenchService } from '../benchService';
-import type { BenchDialogs, PortListing } from './benchPorts';
+import type { BenchDialogs, PortListing } from './benchDependencies';
 import { openJournalSink } from './journalSink';
 import { Refusal } from './refusal';
 

@@ -10,7 +10,7 @@ import {
   type RecordHeader, type RunMetadata,
 } from '../../acquisition/record/runRecordFormat';
 import type { SampleDetails } from '../bridge/contract';
-import type { RecordEvent, RecordOpening, RecordSink } from './benchPorts';
+import type { RecordEvent, RecordOpening, RecordSink } from './benchDependencies';
 import { ensureRunsFolder } from './runsFolder';
 import { PROGRAM } from '../programIdentity';
 import { dirname } from 'node:path';

@@ -112,6 +112,6 @@ function exportInput(s: BenchSession): ExportInput {
   return {
     runId: s.state.runId ?? 'run', demo: s.state.demo, sourceLabel: s.state.sourceLabel,
     details: s.state.sampleDetails, wavelength_nm: s.state.wavelength_nm, timeZero_s: s.run.timeZero_s ?? 0,
-    series: s.run.series, result: s.run.resultOrNull(),
+    readings: s.run.readings, result: s.run.resultOrNull(),
   };
 }

@@ -7,7 +7,7 @@ import { mkdir, rename, writeFile } from 'node:fs/promises';
 import { dirname } from 'node:path';
 import type { AnalysisResult } from '../../kinetics/analysisTypes';
 import type { SampleDetails } from '../bridge/contract';
-import type { RunSeries } from './runSeries';
+import type { RunReadings } from './runReadings';
 
 export interface ExportInput {
   runId: string;
@@ -16,7 +16,7 @@ export interface ExportInput {
   details: SampleDetails;
   wavelength_nm: number | null;
   timeZero_s: number;
-  series: RunSeries;
+  readings: RunReadings;
   result: AnalysisResult | null;
 }
 
@@ -54,7 +54,7 @@ export function runCsv(input: ExportInput): string {
     lines.push(comment(r.uncertaintyNote));
   }
   lines.push(['time_s', 'time_after_mixing_s', 'absorbance', 'flags'].map(field).join(','));
-  const s = input.series;
+  const s = input.readings;
   for (let i = 0; i < s.length; i++) {
     const t = s.time_s[i]!;
     lines.push(`${t},${t - input.timeZero_s},${s.absorbance[i]!},${s.flags[i]!}`);

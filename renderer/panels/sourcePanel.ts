@@ -130,7 +130,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
       setText(status, statusWords(state));
       // Counted on the screen from the batches as they arrive, so it is live; the service's
       // figure rides on its state messages, which come only when something changes.
-      const r = b?.phase === 'running' ? state.series.readingsPerWallSecond() ?? b.readingRate_perSecond : null;
+      const r = b?.phase === 'running' ? state.readings.readingsPerWallSecond() ?? b.readingRate_perSecond : null;
       setText(rate, `Reading rate: ${r == null ? '—' : `${r.toFixed(r < 10 ? 2 : 0)} per second`}`);
       const counts = state.sourceStatus?.kind === 'connected' && state.sourceStatus.identity?.sends === 'counts';
       setText(blankHint, counts && !b?.blankTaken ? 'This instrument sends raw detector counts: fill the cuvette with the solvent and take a blank before starting.' : '');

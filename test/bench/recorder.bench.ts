@@ -15,7 +15,7 @@ import { performance } from 'node:perf_hooks';
 import { Journal } from '../../acquisition/record/journal';
 import { readRunRecord } from '../../acquisition/record/journalReader';
 import { Recorder } from '../../acquisition/record/recorder';
-import { ReplaySource, timelineFromRecord, timelineFromSeries } from '../../acquisition/sources/replaySource';
+import { ReplaySource, timelineFromRecord, timelineFromReadings } from '../../acquisition/sources/replaySource';
 import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import type { AnalysisResult, RunAnalyzerLike } from '../../kinetics/analysisTypes';
 import { DEMO_RUN, simulateRun } from '../../kinetics/reactionModel';
@@ -71,7 +71,7 @@ async function recorder(name: string, series: typeof run): Promise<{ perSecond: 
   const path = join(dir, name);
   const n = series.time_s.length;
   const journal = Journal.create(path, demoHeader());
-  const source = new ReplaySource(timelineFromSeries(series.time_s, series.absorbance, 630), { speed: 'max', batch: 8192 });
+  const source = new ReplaySource(timelineFromReadings(series.time_s, series.absorbance, 630), { speed: 'max', batch: 8192 });
   const analyzer = new AnalysisLeftOut();
   const rec = new Recorder({ source, journal, analyzer, wavelength_nm: 630 });
   const start = performance.now();

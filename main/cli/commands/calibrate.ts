@@ -8,13 +8,12 @@
  * the line as a calibration file (acquisition/files/calibrationFile.ts). Exit 0 done, 2 bad input.
  */
 import { existsSync, statSync } from 'node:fs';
-import { readUserText } from '../../../acquisition/files/runFile';
 import { InputError } from '../common/cliErrors';
 import { numberValue, parseListArgs } from '../common/listOptions';
-import { concentrationColumn, parseNumericTable, readHeader, type ConcentrationColumn } from '../common/numericCsv';
 import { CalibrationFileError, calibrationFile, saveCalibrationFile } from '../../../acquisition/files/calibrationFile';
 import { isoWithLocalOffset } from '../../../acquisition/record/runRecordFormat';
-import { calibrate, predictConcentration, type Calibration, type CalibrationStandard } from '../../../kinetics/calibration';
+import { predictConcentration, type Calibration } from '../../../kinetics/calibration';
+import { fitStandardsFile } from '../common/standardsFile';
 import { formatInterval, formatWithUncertainty } from '../../../kinetics/fit/report';
 
 const HELP = `usage: rateline calibrate FILE [--path-cm L] [--intercept] [--format text|json] [--predict A ...] [--save CAL.json]
@@ -105,34 +104,6 @@ export async function run(argv: string[]): Promise<number> {
   if (format === 'json') console.log(JSON.stringify(save === undefined ? result : { ...result, saved: save }, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2));
   else console.log(calibrationText(result, cal) + (save === undefined ? '' : `\nSaved to ${save} (rateline analyze RUN --calibration ${save} fits the run in ${unit.unit}).`));
   return 0;
-}
-
-export interface FittedStandards {
-  cal: Calibration;
-  unit: ConcentrationColumn;
-  rows: { line: number; values: (number | null)[] }[];
-  standards: CalibrationStandard[];
-}
-
-/** Reads a CSV of standards and fits the Beer–Lambert line; every problem is one InputError naming the file and line. */
-export async function fitStandardsFile(file: string, options: { pathLength_cm: number; intercept: boolean }): Promise<FittedStandards> {
-  const text = await readUserText(file, 'a CSV of standards (.csv)');
-  const header = readHeader(text);
-  if (!header) throw new InputError(`${file}: the file has no header row; the first line should name a concentration column (concentration_M, concentration_mM or concentration_uM) and absorbance.`);
-  const unit = concentrationColumn(header.names, file, header.line);
-  if ('error' in unit) throw new InputError(unit.error);
-  const table = parseNumericTable(text, file, [{ name: unit.name }, { name: 'absorbance' }], `${unit.name} and absorbance`);
-  if (!table.ok) throw new InputError(table.error);
-  const rows = table.table.rows;
-  if (rows.length === 0) throw new InputError(`${file}: no standards below the header (line ${table.table.headerLine}); add one line per reading of a standard.`);
-  const standards: CalibrationStandard[] = rows.map((r) => ({ concentration_M: r.values[0]! * unit.toMolar, absorbance: r.values[1]! }));
-  const outcome = calibrate(standards, options);
-  if (!outcome.ok) {
-    // The engine counts standards from 1; the user knows the file by its lines.
-    const m = /^standard (\d+) \([^)]*\): (.*)$/.exec(outcome.error);
-    throw new InputError(m ? `${file} line ${rows[Number(m[1]) - 1]!.line}: ${m[2]}` : `${file}: ${outcome.error}`);
-  }
-  return { cal: outcome.calibration, unit, rows, standards };
 }
 
 const pm = (v: number, se: number | null): string => formatWithUncertainty(v, se);

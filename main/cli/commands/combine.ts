@@ -13,9 +13,9 @@ import { extname, resolve } from 'node:path';
 import { InputError } from '../common/cliErrors';
 import { numberValue, parseListArgs } from '../common/listOptions';
 import { CONCENTRATION_COLUMNS, parseNumericTable, readHeader } from '../common/numericCsv';
-import { formatCombinedText } from '../common/combineReport';
+import { formatCombinedText, type CombineBy, type CombinedRun, type LeftOutRun } from '../common/combineReport';
 import { parseRunCsv } from '../../../acquisition/files/runCsv';
-import { analysisSeries, parseRunRecord, type RunRecord } from '../../../acquisition/record/journalReader';
+import { analysisReadings, parseRunRecord, type RunRecord } from '../../../acquisition/record/journalReader';
 import { looksLikeRunRecordLine } from '../../../acquisition/record/runRecordFormat';
 import { RunAnalyzer } from '../../../kinetics/runAnalyzer';
 import { MIN_POINTS_TO_ESTIMATE } from '../../../kinetics/stopAdvice';
@@ -43,23 +43,6 @@ const HELP = `usage: rateline combine FILE... --by concentration|temperature [--
                    replaces the header's value. Repeat once per file, or list several
                    after one --value: --value a.csv=0.010 b.csv=0.020
   --format         text (default) or json`;
-
-export type CombineBy = 'concentration' | 'temperature';
-
-/** One run (or summary row) that goes into the combined fit. */
-export interface CombinedRun {
-  label: string;
-  /** Concentration in M (by concentration) or temperature in °C (by temperature). */
-  x: number;
-  xFrom: 'header' | 'option' | 'summary';
-  k_perSecond: number;
-  kStdErr_perSecond: number | null;
-}
-
-export interface LeftOutRun {
-  label: string;
-  reason: string;
-}
 
 /** --value FILE=X pairs, keyed by the resolved path, checked for number and duplicates. */
 function valueOptions(raw: string[], by: CombineBy): Map<string, { given: string; x: number }> {
@@ -141,7 +124,7 @@ function summaryRuns(text: string, file: string, by: CombineBy, names: string[],
 }
 
 /**
- * Fits one run file; returns the run, or why it is left out. The series is designed to be
+ * Fits one run file; returns the run, or why it is left out. The study is designed to be
  * pseudo-first-order (reagent in excess), so a run is left out only when the data decide
  * for another order; a run left undecided while first order fits best (most often a
  * chance rejection by the runs test, about one good run in twenty) is kept, with a note.
@@ -198,8 +181,8 @@ export async function run(argv: string[]): Promise<number> {
       const record = parseRunRecord(text, file);
       if (record.recovery.message) console.error(record.recovery.message);
       const x = option ? option.x : recordX(record, file, by, reagent);
-      const series = analysisSeries(record);
-      const fit = analyseRun(series.time_s, series.absorbance, file);
+      const readings = analysisReadings(record);
+      const fit = analyseRun(readings.time_s, readings.absorbance, file);
       if ('reason' in fit) leftOut.push({ label: file, reason: fit.reason });
       else {
         if (fit.note) console.error(`rateline combine: note: ${file}: ${fit.note}.`);

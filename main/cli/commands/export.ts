@@ -15,7 +15,7 @@ import { readRunRecord } from '../../../acquisition/record/journalReader';
 import { RunAnalyzer } from '../../../kinetics/runAnalyzer';
 import type { AnalysisResult } from '../../../kinetics/analysisTypes';
 import { runCsv } from '../../bench/runExport';
-import { RunSeries } from '../../bench/runSeries';
+import { RunReadings } from '../../bench/runReadings';
 
 const HELP = `usage: rateline export FILE --to jcamp|csv --out OUT
 
@@ -67,12 +67,12 @@ export async function run(argv: string[]): Promise<number> {
     if (!j.ok) throw new InputError(`${file}: ${j.error}`);
     text = j.text;
   } else {
-    const series = new RunSeries();
-    for (let i = 0; i < loaded.time_s.length; i++) series.push(loaded.time_s[i]!, loaded.absorbance[i]!, 0);
+    const readings = new RunReadings();
+    for (let i = 0; i < loaded.time_s.length; i++) readings.push(loaded.time_s[i]!, loaded.absorbance[i]!, 0);
     text = runCsv({
       runId: details.title, demo: details.demo, sourceLabel: details.origin,
       details: { sample: details.title, operator: details.owner || undefined, temperature_C: details.temperature_C, concentrations: details.concentrations },
-      wavelength_nm: details.wavelength_nm, timeZero_s: 0, series, result,
+      wavelength_nm: details.wavelength_nm, timeZero_s: 0, readings, result,
     });
   }
   try {

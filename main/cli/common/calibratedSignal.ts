@@ -21,7 +21,7 @@ import {
 import { isoWithLocalOffset } from '../../../acquisition/record/runRecordFormat';
 import type { LoadedRun } from '../../../acquisition/files/runFile';
 import { InputError } from './cliErrors';
-import { fitStandardsFile } from '../commands/calibrate';
+import { fitStandardsFile } from './standardsFile';
 
 /** Above this a reading is beyond the usual linear range when the calibration does not say (common practice: about 1 AU). */
 const DEFAULT_LINEAR_LIMIT_AU = 1;

@@ -6,7 +6,23 @@
 import type { ArrheniusResult } from '../../../kinetics/arrhenius';
 import type { RateLawResult } from '../../../kinetics/rateLawSeries';
 import { formatInterval, formatWithUncertainty } from '../../../kinetics/fit/report';
-import type { CombinedRun, LeftOutRun } from '../commands/combine';
+
+export type CombineBy = 'concentration' | 'temperature';
+
+/** One run (or summary row) that goes into the combined fit. */
+export interface CombinedRun {
+  label: string;
+  /** Concentration in M (by concentration) or temperature in °C (by temperature). */
+  x: number;
+  xFrom: 'header' | 'option' | 'summary';
+  k_perSecond: number;
+  kStdErr_perSecond: number | null;
+}
+
+export interface LeftOutRun {
+  label: string;
+  reason: string;
+}
 
 export type CombinedOutput =
   | { by: 'concentration'; runs: (CombinedRun & { concentration_M: number })[]; leftOut: LeftOutRun[]; rateLaw: RateLawResult }

@@ -2,7 +2,7 @@
  * The readings of one run as flat typed arrays, grown geometrically (doubling), so a
  * run of 10⁶ points costs a handful of copies and no object per reading.
  */
-export class RunSeries {
+export class RunReadings {
   time_s = new Float64Array(1024);
   absorbance = new Float64Array(1024);
   flags = new Uint32Array(1024);

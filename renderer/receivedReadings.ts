@@ -7,12 +7,12 @@
  */
 import type { ReadingsBatch } from '../main/bridge/contract';
 
-export class RunSeries {
+export class ReceivedReadings {
   time_s: Float64Array;
   absorbance: Float64Array;
   flags: Uint8Array;
   count = 0;
-  /** Changes whenever the series is cleared for a new run, so cached views of it know to start over. */
+  /** Changes whenever the readings are cleared for a new run, so cached views of it know to start over. */
   generation = 0;
   /** Readings the screen never received (a batch that started past the end). */
   missed = 0;
