@@ -5,7 +5,7 @@
  * in concentration (calibratedSignal.ts). Exit 0 done, 2 bad input.
  */
 import { InputError } from '../common/cliErrors';
-import { numberOption, parseArgs } from '../common/cliOptions';
+import { parseCommandArguments } from '../common/arguments';
 import { formatAnalysisText } from '../common/analyzeReport';
 import { loadRun } from '../../../acquisition/files/runFile';
 import { RunAnalyzer } from '../../../kinetics/runAnalyzer';
@@ -36,30 +36,30 @@ const HELP = `usage: rateline analyze FILE [--format text|json] [--half-lives N]
 
 export async function run(argv: string[]): Promise<number> {
   const cmd = 'analyze';
-  const args = parseArgs(cmd, argv, ['format', 'half-lives', 'precision', 'from', 'to', 'a-inf', 'weights', 'noise-t', 'robust', 'calibration']);
+  const args = parseCommandArguments(cmd, argv, {
+    format: 'value', 'half-lives': 'value', precision: 'value', from: 'value', to: 'value', 'a-inf': 'value',
+    weights: 'value', 'noise-t': 'value', robust: 'value', calibration: 'value',
+  });
   if (args.help) { console.log(HELP); return 0; }
-  if (args.positional.length !== 1) {
-    throw new InputError(`rateline analyze: ${args.positional.length === 0 ? 'no file given' : 'give one file only'}; usage: rateline analyze FILE [--format text|json].`);
+  if (args.positionals.length !== 1) {
+    throw new InputError(`rateline analyze: ${args.positionals.length === 0 ? 'no file given' : 'give one file only'}; usage: rateline analyze FILE [--format text|json].`);
   }
-  const file = args.positional[0];
-  const format = args.options.get('format') ?? 'text';
-  if (format !== 'text' && format !== 'json') throw new InputError(`rateline analyze: --format ${format} is not known; use text or json.`);
-  const targetHalfLives = numberOption(cmd, args, 'half-lives', (x) => x > 0 && x <= 20, 'a number of half-lives between 0 and 20');
-  const precision = numberOption(cmd, args, 'precision', (x) => x > 0 && x < 1, 'a fraction between 0 and 1 (e.g. 0.05)');
-  const from_s = numberOption(cmd, args, 'from', () => true, 'a time in seconds');
-  const to_s = numberOption(cmd, args, 'to', () => true, 'a time in seconds');
-  const fixedAInf = numberOption(cmd, args, 'a-inf', (x) => x > -1 && x < 5, 'an absorbance between -1 and 5');
-  const sigmaT = numberOption(cmd, args, 'noise-t', (x) => x > 0 && x < 0.5, 'a transmittance noise between 0 and 0.5 (e.g. 0.001)');
-  const weights = args.options.get('weights') ?? 'noise';
-  if (weights !== 'noise' && weights !== 'none') throw new InputError(`rateline analyze: --weights ${weights} is not known; use noise or none.`);
-  const robust = args.options.get('robust') ?? 'on';
-  if (robust !== 'on' && robust !== 'off') throw new InputError(`rateline analyze: --robust ${robust} is not known; use on or off.`);
+  const file = args.positionals[0]!;
+  const format = args.choice('format', ['text', 'json'], 'text');
+  const targetHalfLives = args.number('half-lives', (x) => x > 0 && x <= 20, 'a number of half-lives between 0 and 20');
+  const precision = args.number('precision', (x) => x > 0 && x < 1, 'a fraction between 0 and 1 (e.g. 0.05)');
+  const from_s = args.number('from', () => true, 'a time in seconds');
+  const to_s = args.number('to', () => true, 'a time in seconds');
+  const fixedAInf = args.number('a-inf', (x) => x > -1 && x < 5, 'an absorbance between -1 and 5');
+  const sigmaT = args.number('noise-t', (x) => x > 0 && x < 0.5, 'a transmittance noise between 0 and 0.5 (e.g. 0.001)');
+  const weights = args.choice('weights', ['noise', 'none'], 'noise');
+  const robust = args.choice('robust', ['on', 'off'], 'on');
   if (from_s !== undefined && to_s !== undefined && !(to_s > from_s)) {
     throw new InputError(`rateline analyze: the fit window --from ${from_s} --to ${to_s} is empty; --to must be later than --from.`);
   }
   const loaded = await loadRun(file);
   const { time_s, absorbance } = loaded;
-  const calibration = await resolveCalibration(args.options.get('calibration'), loaded);
+  const calibration = await resolveCalibration(args.value('calibration'), loaded);
   // A record that was cut off (a crash, a pulled plug) is analysed as recovered; say so
   // on stderr so that JSON on stdout stays clean.
   if (loaded.notice) console.error(loaded.notice);

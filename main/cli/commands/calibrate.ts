@@ -9,7 +9,7 @@
  */
 import { existsSync, statSync } from 'node:fs';
 import { InputError } from '../common/cliErrors';
-import { numberValue, parseListArgs } from '../common/listOptions';
+import { parseCommandArguments } from '../common/arguments';
 import { CalibrationFileError, calibrationFile, saveCalibrationFile } from '../../../acquisition/files/calibrationFile';
 import { isoWithLocalOffset } from '../../../acquisition/record/runRecordFormat';
 import { predictConcentration, type Calibration } from '../../../kinetics/calibration';
@@ -36,20 +36,18 @@ const HELP = `usage: rateline calibrate FILE [--path-cm L] [--intercept] [--form
 
 export async function run(argv: string[]): Promise<number> {
   const cmd = 'calibrate';
-  const args = parseListArgs(cmd, argv, { 'path-cm': { kind: 'one' }, intercept: { kind: 'switch' }, format: { kind: 'one' }, predict: { kind: 'many' }, save: { kind: 'one' } });
+  const args = parseCommandArguments(cmd, argv, { 'path-cm': 'value', intercept: 'flag', format: 'value', predict: 'values', save: 'value' });
   if (args.help) { console.log(HELP); return 0; }
-  if (args.positional.length !== 1) {
-    throw new InputError(`rateline calibrate: ${args.positional.length === 0 ? 'no file given' : `give one file only (got ${args.positional.join(', ')})`}; usage: rateline calibrate FILE [--intercept] [--predict A ...].`);
+  if (args.positionals.length !== 1) {
+    throw new InputError(`rateline calibrate: ${args.positionals.length === 0 ? 'no file given' : `give one file only (got ${args.positionals.join(', ')})`}; usage: rateline calibrate FILE [--intercept] [--predict A ...].`);
   }
-  const file = args.positional[0]!;
-  const format = args.single.get('format') ?? 'text';
-  if (format !== 'text' && format !== 'json') throw new InputError(`rateline calibrate: --format ${format} is not known; use text or json.`);
-  const rawPath = args.single.get('path-cm');
-  const pathLength_cm = rawPath === undefined ? 1 : numberValue(cmd, 'path-cm', rawPath, (x) => x > 0 && x <= 100, 'a path length in cm (e.g. 1.00)');
-  const predict = (args.lists.get('predict') ?? []).map((raw) => numberValue(cmd, 'predict', raw, (x) => x > -1 && x < 10, 'an absorbance (put FILE before --predict)'));
-  const hasIntercept = args.switches.has('intercept');
+  const file = args.positionals[0]!;
+  const format = args.choice('format', ['text', 'json'], 'text');
+  const pathLength_cm = args.number('path-cm', (x) => x > 0 && x <= 100, 'a path length in cm (e.g. 1.00)') ?? 1;
+  const predict = args.numbers('predict', (x) => x > -1 && x < 10, 'an absorbance (put FILE before --predict)');
+  const hasIntercept = args.flag('intercept');
 
-  const save = args.single.get('save');
+  const save = args.value('save');
   if (save !== undefined && existsSync(save)) {
     throw new InputError(`rateline calibrate: ${save} is already ${statSync(save).isDirectory() ? 'a folder' : 'a file'}, and a calibration file is never overwritten; choose another --save name.`);
   }

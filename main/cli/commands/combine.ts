@@ -11,7 +11,7 @@
 import { readUserText } from '../../../acquisition/files/runFile';
 import { extname, resolve } from 'node:path';
 import { InputError } from '../common/cliErrors';
-import { numberValue, parseListArgs } from '../common/listOptions';
+import { numberValue, parseCommandArguments } from '../common/arguments';
 import { CONCENTRATION_COLUMNS, parseNumericTable, readHeader } from '../common/numericCsv';
 import { formatCombinedText, type CombineBy, type CombinedRun, type LeftOutRun } from '../common/combineReport';
 import { parseRunCsv } from '../../../acquisition/files/runCsv';
@@ -150,19 +150,17 @@ function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string
 
 export async function run(argv: string[]): Promise<number> {
   const cmd = 'combine';
-  const args = parseListArgs(cmd, argv, { by: { kind: 'one' }, reagent: { kind: 'one' }, value: { kind: 'many' }, format: { kind: 'one' } });
+  const args = parseCommandArguments(cmd, argv, { by: 'value', reagent: 'value', value: 'values', format: 'value' });
   if (args.help) { console.log(HELP); return 0; }
-  const by = args.single.get('by');
-  if (by === undefined) throw new InputError('rateline combine: no --by given; say --by concentration (rate law) or --by temperature (activation energy).');
-  if (by !== 'concentration' && by !== 'temperature') throw new InputError(`rateline combine: --by ${by} is not known; use concentration or temperature.`);
-  const format = args.single.get('format') ?? 'text';
-  if (format !== 'text' && format !== 'json') throw new InputError(`rateline combine: --format ${format} is not known; use text or json.`);
-  const reagent = args.single.get('reagent');
+  if (!args.given('by')) throw new InputError('rateline combine: no --by given; say --by concentration (rate law) or --by temperature (activation energy).');
+  const by: CombineBy = args.choice('by', ['concentration', 'temperature'], 'concentration');
+  const format = args.choice('format', ['text', 'json'], 'text');
+  const reagent = args.value('reagent');
   if (reagent !== undefined && by !== 'concentration') throw new InputError('rateline combine: --reagent goes with --by concentration; leave it out for --by temperature.');
-  if (args.positional.length === 0) throw new InputError('rateline combine: no files given; usage: rateline combine FILE... --by concentration|temperature.');
-  const values = valueOptions(args.lists.get('value') ?? [], by);
+  if (args.positionals.length === 0) throw new InputError('rateline combine: no files given; usage: rateline combine FILE... --by concentration|temperature.');
+  const values = valueOptions(args.values('value'), by);
   const seen = new Map<string, string>();
-  for (const f of args.positional) {
+  for (const f of args.positionals) {
     const key = resolve(f);
     if (seen.has(key)) throw new InputError(`rateline combine: ${f} is given twice; give each run once.`);
     seen.set(key, f);
@@ -173,7 +171,7 @@ export async function run(argv: string[]): Promise<number> {
 
   const runs: CombinedRun[] = [];
   const leftOut: LeftOutRun[] = [];
-  for (const file of args.positional) {
+  for (const file of args.positionals) {
     const text = await readUserText(file, 'a run file (.jsonl or .csv)');
     const option = values.get(resolve(file));
     const firstLine = text.slice(0, text.indexOf('\n') >>> 0);

@@ -10,7 +10,7 @@
  */
 import { closeSync, openSync, writeSync } from 'node:fs';
 import { InputError } from '../common/cliErrors';
-import { numberOption, parseArgs } from '../common/cliOptions';
+import { parseCommandArguments } from '../common/arguments';
 import { DEMO_RUN, type SimulatedOrder } from '../../../kinetics/reactionModel';
 import { SimulatedInstrument, defaultInstrumentSettings } from '../../../acquisition/sources/simulatedInstrument';
 import { openFailureMessage, owningGroup } from '../../../acquisition/sources/portErrors';
@@ -44,7 +44,10 @@ Rateline line protocol. For a serial pair without hardware:
 
 Plain lines, ${PLAIN_SPEC_HELP.replace(/\n {2}/g, '\n')}`;
 
-const OPTIONS = ['port', 'baud', 'speed', 'seed', 'order', 'k', 'a0', 'a-inf', 'noise-t', 'interval', 'temp-drift', 'duration', 'plain', 'sent-log'];
+const OPTIONS = {
+  port: 'value', baud: 'value', speed: 'value', seed: 'value', order: 'value', k: 'value', a0: 'value', 'a-inf': 'value', 'noise-t': 'value',
+  interval: 'value', counts: 'flag', 'temp-drift': 'value', duration: 'value', plain: 'value', 'sent-log': 'value',
+} as const;
 
 function parseOrder(raw: string | undefined): SimulatedOrder {
   if (raw === undefined) return DEMO_RUN.order;
@@ -56,26 +59,26 @@ function parseOrder(raw: string | undefined): SimulatedOrder {
 
 export async function run(argv: string[]): Promise<number> {
   const cmd = 'emulate';
-  const counts = argv.includes('--counts');
-  const args = parseArgs(cmd, argv.filter((a) => a !== '--counts'), OPTIONS);
+  const args = parseCommandArguments(cmd, argv, OPTIONS);
   if (args.help) { console.log(HELP); return 0; }
-  if (args.positional.length > 0) throw new InputError(`rateline emulate: unexpected argument "${args.positional[0]}"; the port goes after --port.`);
-  const path = args.options.get('port');
+  if (args.positionals.length > 0) throw new InputError(`rateline emulate: unexpected argument "${args.positionals[0]}"; the port goes after --port.`);
+  const path = args.value('port');
   if (!path) throw new InputError('rateline emulate: no --port PATH given; name the serial port to play on (see --help for a socat pair).');
-  const baudRate = numberOption(cmd, args, 'baud', (x) => Number.isInteger(x) && x >= 300 && x <= 4_000_000, 'a baud rate such as 9600 or 115200') ?? 115200;
-  const speed = numberOption(cmd, args, 'speed', (x) => x > 0 && x <= 10_000, 'a speed factor between 0 and 10000') ?? 1;
-  const seed = numberOption(cmd, args, 'seed', (x) => Number.isInteger(x), 'a whole number') ?? 1;
-  const order = parseOrder(args.options.get('order'));
-  const k = numberOption(cmd, args, 'k', (x) => x > 0, 'a positive rate constant') ?? DEMO_RUN.k;
-  const a0 = numberOption(cmd, args, 'a0', (x) => x > 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.a0;
-  const aInf = numberOption(cmd, args, 'a-inf', (x) => x >= 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.aInf;
+  const baudRate = args.number('baud', (x) => Number.isInteger(x) && x >= 300 && x <= 4_000_000, 'a baud rate such as 9600 or 115200') ?? 115200;
+  const speed = args.number('speed', (x) => x > 0 && x <= 10_000, 'a speed factor between 0 and 10000') ?? 1;
+  const seed = args.number('seed', (x) => Number.isInteger(x), 'a whole number') ?? 1;
+  const order = parseOrder(args.value('order'));
+  const k = args.number('k', (x) => x > 0, 'a positive rate constant') ?? DEMO_RUN.k;
+  const a0 = args.number('a0', (x) => x > 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.a0;
+  const aInf = args.number('a-inf', (x) => x >= 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.aInf;
   if (!(aInf < a0)) throw new InputError(`rateline emulate: --a-inf ${aInf} is not below --a0 ${a0}; the absorbance must fall as the dye reacts.`);
-  const sigmaT = numberOption(cmd, args, 'noise-t', (x) => x >= 0 && x < 0.1, 'a transmittance noise between 0 and 0.1') ?? DEMO_RUN.sigmaT;
-  const interval_s = numberOption(cmd, args, 'interval', (x) => x >= 0.01 && x <= 3600, 'an interval between 0.01 and 3600 s') ?? 1;
-  const drift = numberOption(cmd, args, 'temp-drift', (x) => Math.abs(x) <= 10, 'a drift between -10 and 10 K/min') ?? 0;
-  const duration_s = numberOption(cmd, args, 'duration', (x) => x > 0, 'a positive number of seconds') ?? null;
+  const sigmaT = args.number('noise-t', (x) => x >= 0 && x < 0.1, 'a transmittance noise between 0 and 0.1') ?? DEMO_RUN.sigmaT;
+  const interval_s = args.number('interval', (x) => x >= 0.01 && x <= 3600, 'an interval between 0.01 and 3600 s') ?? 1;
+  const drift = args.number('temp-drift', (x) => Math.abs(x) <= 10, 'a drift between -10 and 10 K/min') ?? 0;
+  const duration_s = args.number('duration', (x) => x > 0, 'a positive number of seconds') ?? null;
   let plain: PlainSpec | null = null;
-  const plainText = args.options.get('plain');
+  const counts = args.flag('counts');
+  const plainText = args.value('plain');
   if (plainText !== undefined) {
     try {
       plain = parsePlainSpec(plainText);
@@ -85,7 +88,7 @@ export async function run(argv: string[]): Promise<number> {
     }
     if (counts) throw new InputError('rateline emulate: --counts and --plain do not go together; an instrument printing plain lines sends its signal (A, %T or T) as the spec says.');
   }
-  const sentLog = args.options.get('sent-log');
+  const sentLog = args.value('sent-log');
 
   const instrument = new SimulatedInstrument(defaultInstrumentSettings({ order, k, a0, aInf }, {
     sigmaT, seed, interval_s, sends: counts ? 'counts' : 'absorbance', temperatureDrift_KperMin: drift,

@@ -8,7 +8,7 @@ import { existsSync } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { basename } from 'node:path';
 import { InputError } from '../common/cliErrors';
-import { parseArgs } from '../common/cliOptions';
+import { parseCommandArguments } from '../common/arguments';
 import { runJcamp, type JcampRun } from '../../../acquisition/exports/jcampExport';
 import { loadRun } from '../../../acquisition/files/runFile';
 import { readRunRecord } from '../../../acquisition/record/journalReader';
@@ -43,14 +43,14 @@ function fitNotes(r: AnalysisResult): string[] {
 }
 
 export async function run(argv: string[]): Promise<number> {
-  const args = parseArgs('export', argv, ['to', 'out']);
+  const args = parseCommandArguments('export', argv, { to: 'value', out: 'value' });
   if (args.help) { console.log(HELP); return 0; }
-  const [file, ...extra] = args.positional;
+  const [file, ...extra] = args.positionals;
   if (!file) throw new InputError('rateline export: no file given; usage: rateline export FILE --to jcamp|csv --out OUT.');
   if (extra.length > 0) throw new InputError(`rateline export: one file at a time; "${extra[0]}" is one too many.`);
-  const to = args.options.get('to');
+  const to = args.value('to');
   if (to !== 'jcamp' && to !== 'csv') throw new InputError(`rateline export: --to ${to ?? '(missing)'} is not known; use --to jcamp or --to csv.`);
-  const out = args.options.get('out');
+  const out = args.value('out');
   if (!out) throw new InputError('rateline export: no --out given; name the new file to write.');
   if (existsSync(out)) throw new InputError(`rateline export: ${out} exists already; an export never overwrites a file, so give a new name.`);
 

@@ -5,7 +5,6 @@
  */
 import { existsSync, statSync, unlinkSync } from 'node:fs';
 import { PROGRAM } from '../../programIdentity';
-import { parseArgs } from 'node:util';
 import { RunAnalyzer } from '../../../kinetics/runAnalyzer';
 import { DEMO_RUN } from '../../../kinetics/reactionModel';
 import type { AnalysisResult } from '../../../kinetics/analysisTypes';
@@ -19,6 +18,7 @@ import type { ReadingSource } from '../../../acquisition/sources/sourceTypes';
 import { SimulatedSource } from '../../../acquisition/sources/simulatedSource';
 import { defaultInstrumentSettings } from '../../../acquisition/sources/simulatedInstrument';
 import { EXIT_BAD_INPUT, EXIT_OK, InputError } from '../common/cliErrors';
+import { parseCommandArguments } from '../common/arguments';
 import { formatProgress, progressJson } from '../common/recordProgress';
 import { openSerialForRecord } from '../common/recordSerial';
 import { CalibrationFileError, readCalibrationFile, type CalibrationFile } from '../../../acquisition/files/calibrationFile';
@@ -52,12 +52,14 @@ const USAGE = `usage: rateline record --port PATH|sim --out FILE [options]
 --plain ${PLAIN_SPEC_HELP}
   The record's header keeps the spec in full (instrument identity: "plain delimited lines read as …").`;
 
-function number(name: string, raw: string | undefined, check: (v: number) => boolean, what: string): number | undefined {
-  if (raw === undefined) return undefined;
-  const v = Number(raw);
-  if (raw.trim() === '' || !Number.isFinite(v) || !check(v)) throw new InputError(`rateline record: --${name} "${raw}" is not ${what}; give ${what}.`);
-  return v;
-}
+const RECORD_OPTIONS = {
+  port: 'value', out: 'value', baud: 'value', simulate: 'flag',
+  'max-seconds': 'value', 'until-advice': 'flag', 'half-lives': 'value', precision: 'value',
+  sample: 'value', operator: 'value', 'temperature-c': 'value', 'wavelength-nm': 'value',
+  'path-cm': 'value', ph: 'value', buffer: 'value', note: 'value', conc: 'values', volume: 'values',
+  plain: 'value', speed: 'value', seed: 'value', sends: 'value',
+  progress: 'value', 'progress-ms': 'value', calibration: 'value',
+} as const;
 
 function parseConcentration(raw: string): RunMetadata['concentrations'][number] {
   const m = /^\s*([^=]+?)\s*=\s*([-+0-9.eE]+)\s*(\S.*)?$/.exec(raw);
@@ -74,58 +76,40 @@ function parseVolume(raw: string): RunMetadata['volumes'][number] {
 }
 
 export async function run(argv: string[]): Promise<number> {
-  let parsed;
-  try {
-    parsed = parseArgs({
-      args: argv,
-      strict: true,
-      allowPositionals: false,
-      options: {
-        port: { type: 'string' }, out: { type: 'string' }, baud: { type: 'string' }, simulate: { type: 'boolean' },
-        'max-seconds': { type: 'string' }, 'until-advice': { type: 'boolean' }, 'half-lives': { type: 'string' }, precision: { type: 'string' },
-        sample: { type: 'string' }, operator: { type: 'string' }, 'temperature-c': { type: 'string' }, 'wavelength-nm': { type: 'string' },
-        'path-cm': { type: 'string' }, ph: { type: 'string' }, buffer: { type: 'string' }, note: { type: 'string' },
-        conc: { type: 'string', multiple: true }, volume: { type: 'string', multiple: true },
-        plain: { type: 'string' }, speed: { type: 'string' }, seed: { type: 'string' }, sends: { type: 'string' },
-        progress: { type: 'string' }, 'progress-ms': { type: 'string' }, calibration: { type: 'string' }, help: { type: 'boolean', short: 'h' },
-      },
-    });
-  } catch (err) {
-    throw new InputError(`rateline record: ${err instanceof Error ? err.message.split('\n')[0] : String(err)}; run "rateline record --help".`);
-  }
-  const o = parsed.values;
-  if (o.help) {
+  const args = parseCommandArguments('record', argv, RECORD_OPTIONS);
+  if (args.help) {
     console.log(USAGE);
     return EXIT_OK;
   }
-  const simulate = o.simulate === true || o.port === 'sim';
-  if (!simulate && !o.port) throw new InputError('rateline record: no --port given; name the serial port of the instrument (or --simulate for the simulated one).');
-  if (!o.out) throw new InputError('rateline record: no --out given; name the new run record file, for example --out run1.jsonl.');
-  const out = o.out;
+  if (args.positionals.length > 0) throw new InputError(`rateline record: unexpected argument "${args.positionals[0]}"; every value goes after its option (run "rateline record --help" for the options).`);
+  const port = args.value('port');
+  const simulate = args.flag('simulate') || port === 'sim';
+  if (!simulate && !port) throw new InputError('rateline record: no --port given; name the serial port of the instrument (or --simulate for the simulated one).');
+  const out = args.value('out');
+  if (!out) throw new InputError('rateline record: no --out given; name the new run record file, for example --out run1.jsonl.');
   if (existsSync(out)) {
     const what = statSync(out).isDirectory() ? 'a folder' : 'a file';
     throw new InputError(`rateline record: ${out} is already ${what}, and a run record is never overwritten; choose another --out name.`);
   }
   const positive = (v: number): boolean => v > 0;
-  const maxSeconds = number('max-seconds', o['max-seconds'], positive, 'a positive number of seconds');
-  const halfLives = number('half-lives', o['half-lives'], positive, 'a positive number of half-lives');
-  const precision = number('precision', o.precision, (v) => v > 0 && v < 1, 'a fraction between 0 and 1');
-  const baud = number('baud', o.baud, (v) => Number.isInteger(v) && v > 0, 'a whole positive baud rate') ?? 115200;
-  const seed = number('seed', o.seed, Number.isInteger, 'a whole number') ?? 1;
-  const progressMs = number('progress-ms', o['progress-ms'], (v) => v >= 50, 'at least 50 ms') ?? 1000;
-  const speed = o.speed === undefined || o.speed === 'max' ? (o.speed ?? 1) : number('speed', o.speed, positive, 'a positive speed factor or max')!;
-  const sends = o.sends ?? 'absorbance';
-  if (sends !== 'absorbance' && sends !== 'counts') throw new InputError(`rateline record: --sends "${sends}" is neither absorbance nor counts.`);
-  const progressMode = o.progress ?? 'text';
-  if (progressMode !== 'text' && progressMode !== 'json') throw new InputError(`rateline record: --progress "${progressMode}" is neither text nor json.`);
-  if (!simulate && (o.speed !== undefined || o.seed !== undefined || o.sends !== undefined)) {
+  const maxSeconds = args.number('max-seconds', positive, 'a positive number of seconds');
+  const halfLives = args.number('half-lives', positive, 'a positive number of half-lives');
+  const precision = args.number('precision', (v) => v > 0 && v < 1, 'a fraction between 0 and 1');
+  const baud = args.number('baud', (v) => Number.isInteger(v) && v > 0, 'a whole positive baud rate') ?? 115200;
+  const seed = args.number('seed', Number.isInteger, 'a whole number') ?? 1;
+  const progressMs = args.number('progress-ms', (v) => v >= 50, 'at least 50 ms') ?? 1000;
+  const speed = args.value('speed') === 'max' ? 'max' : args.number('speed', positive, 'a positive speed factor or max') ?? 1;
+  const sends = args.choice('sends', ['absorbance', 'counts'], 'absorbance');
+  const progressMode = args.choice('progress', ['text', 'json'], 'text');
+  if (!simulate && (args.given('speed') || args.given('seed') || args.given('sends'))) {
     throw new InputError('rateline record: --speed, --seed and --sends are for the simulated instrument only; drop them or add --simulate.');
   }
 
   let calibration: CalibrationFile | null = null;
-  if (o.calibration !== undefined) {
+  const calibrationPath = args.value('calibration');
+  if (calibrationPath !== undefined) {
     try {
-      calibration = readCalibrationFile(o.calibration);
+      calibration = readCalibrationFile(calibrationPath);
     } catch (err) {
       if (err instanceof CalibrationFileError) throw new InputError(`rateline record: --calibration ${err.message}`);
       throw err;
@@ -133,33 +117,34 @@ export async function run(argv: string[]): Promise<number> {
   }
 
   let plain: PlainSpec | null = null;
-  if (o.plain !== undefined) {
+  const plainText = args.value('plain');
+  if (plainText !== undefined) {
     if (simulate) throw new InputError('rateline record: --plain is for a serial instrument that prints plain lines; drop it, or give --port PATH instead of --simulate.');
     try {
-      plain = parsePlainSpec(o.plain);
+      plain = parsePlainSpec(plainText);
     } catch (err) {
-      if (err instanceof PlainSpecError) throw new InputError(`rateline record: --plain "${o.plain}": ${err.message}; run "rateline record --help" for the spec.`);
+      if (err instanceof PlainSpecError) throw new InputError(`rateline record: --plain "${plainText}": ${err.message}; run "rateline record --help" for the spec.`);
       throw err;
     }
   }
 
   const run: RunMetadata = {
     ...emptyRunMetadata(),
-    sample: o.sample ?? (simulate ? 'brilliant blue FCF + hypochlorite (demo)' : null),
-    operator: o.operator ?? null,
-    wavelength_nm: number('wavelength-nm', o['wavelength-nm'], positive, 'a positive wavelength in nm') ?? (simulate ? 630 : null),
-    path_cm: number('path-cm', o['path-cm'], positive, 'a positive path length in cm') ?? null,
-    temperature_C: number('temperature-c', o['temperature-c'], (v) => v > -273.15, 'a temperature in °C') ?? null,
-    pH: number('ph', o.ph, (v) => v >= -2 && v <= 16, 'a pH') ?? null,
-    buffer: o.buffer ?? null,
-    concentrations: (o.conc ?? []).map(parseConcentration),
-    volumes: (o.volume ?? []).map(parseVolume),
-    note: o.note ?? null,
+    sample: args.value('sample') ?? (simulate ? 'brilliant blue FCF + hypochlorite (demo)' : null),
+    operator: args.value('operator') ?? null,
+    wavelength_nm: args.number('wavelength-nm', positive, 'a positive wavelength in nm') ?? (simulate ? 630 : null),
+    path_cm: args.number('path-cm', positive, 'a positive path length in cm') ?? null,
+    temperature_C: args.number('temperature-c', (v) => v > -273.15, 'a temperature in °C') ?? null,
+    pH: args.number('ph', (v) => v >= -2 && v <= 16, 'a pH') ?? null,
+    buffer: args.value('buffer') ?? null,
+    concentrations: args.values('conc').map(parseConcentration),
+    volumes: args.values('volume').map(parseVolume),
+    note: args.value('note') ?? null,
   };
 
   let source: ReadingSource;
   let timeZero: TimeZero;
-  const instrument: RecordHeader['instrument'] = { source: simulate ? 'simulated' : 'serial', port: simulate ? null : o.port!, baud: simulate ? null : baud, identity: null };
+  const instrument: RecordHeader['instrument'] = { source: simulate ? 'simulated' : 'serial', port: simulate ? null : port!, baud: simulate ? null : baud, identity: null };
   if (simulate) {
     const settings = defaultInstrumentSettings(DEMO_RUN, { seed, sends });
     source = new SimulatedSource({ instrument: settings, speed });
@@ -170,9 +155,9 @@ export async function run(argv: string[]): Promise<number> {
     if (plain) {
       // A plain instrument cannot say who it is: the header says how its lines are read instead.
       instrument.identity = plainIdentity(plain);
-      source = await openSerialForRecord(o.port!, baud, { delimited: { ...plain.config, ...(run.wavelength_nm !== null ? { wavelength_nm: run.wavelength_nm } : {}) }, expectedInterval_s: plain.interval_s });
+      source = await openSerialForRecord(port!, baud, { delimited: { ...plain.config, ...(run.wavelength_nm !== null ? { wavelength_nm: run.wavelength_nm } : {}) }, expectedInterval_s: plain.interval_s });
     } else {
-      source = await openSerialForRecord(o.port!, baud);
+      source = await openSerialForRecord(port!, baud);
     }
     timeZero = 'firstReading';
   }
@@ -205,7 +190,7 @@ export async function run(argv: string[]): Promise<number> {
   const recorder = new Recorder({
     source, journal, analyzer, timeZero, wavelength_nm: run.wavelength_nm, identity: instrument.identity,
     ...(maxSeconds !== undefined ? { maxRunSeconds: maxSeconds } : {}),
-    ...(o['until-advice'] ? { untilAdvice: true } : {}),
+    ...(args.flag('until-advice') ? { untilAdvice: true } : {}),
   });
 
   const say = (line: string): void => {
@@ -226,7 +211,7 @@ export async function run(argv: string[]): Promise<number> {
     }
   };
   if (progressMode === 'text') {
-    say(`rateline record: recording to ${out}${simulate ? ' from the simulated instrument (demo data)' : ` from ${o.port} at ${baud} baud${plain ? `, plain lines read as ${plain.canonical}` : ''}`}; Ctrl-C stops and closes the record.`);
+    say(`rateline record: recording to ${out}${simulate ? ' from the simulated instrument (demo data)' : ` from ${port} at ${baud} baud${plain ? `, plain lines read as ${plain.canonical}` : ''}`}; Ctrl-C stops and closes the record.`);
   }
   const ticker = setInterval(printProgress, progressMs);
   let outcome: RecorderOutcome;

@@ -10,6 +10,7 @@ import { ensureRunsFolder } from '../../bench/runsFolder';
 import { ensureRendererBuilt, rendererBuildReason, rendererOutDir } from '../../web/rendererBuild';
 import { startWebHost } from '../../webHost';
 import { InputError } from '../common/cliErrors';
+import { parseCommandArguments } from '../common/arguments';
 
 export const DEFAULT_PORT = 4180;
 export const PROJECT_ROOT = join(dirname(fileURLToPath(import.meta.url)), '..', '..', '..');
@@ -28,36 +29,15 @@ const USAGE = `usage: rateline serve [--port N] [--data-dir DIR] [--speed X] [--
   --no-build     serve dist/renderer/ as it is, without building the screens`;
 
 export function parseServeArgs(argv: string[], command = 'serve'): ServeOptions | 'help' {
-  const o: ServeOptions = { port: DEFAULT_PORT, dataDir: null, speed: DEFAULT_SPEED, build: true };
-  for (let i = 0; i < argv.length; i++) {
-    const a = argv[i]!;
-    const value = (): string => {
-      const v = argv[++i];
-      if (v === undefined || v.startsWith('--')) throw new InputError(`rateline ${command}: ${a} needs a value; see "rateline ${command} --help".`);
-      return v;
-    };
-    switch (a) {
-      case '--help': case '-h': return 'help';
-      case '--port': {
-        const v = value();
-        const n = Number(v);
-        if (!/^\d+$/.test(v) || n > 65535) throw new InputError(`rateline ${command}: --port ${v} is not a port number; give 0 to 65535.`);
-        o.port = n;
-        break;
-      }
-      case '--data-dir': o.dataDir = value(); break;
-      case '--speed': {
-        const v = value();
-        const n = Number(v);
-        if (!Number.isFinite(n) || n < 0.1 || n > 10_000) throw new InputError(`rateline ${command}: --speed ${v} is out of range; give 0.1 to 10000.`);
-        o.speed = n;
-        break;
-      }
-      case '--no-build': o.build = false; break;
-      default: throw new InputError(`rateline ${command}: unknown option "${a}"; see "rateline ${command} --help".`);
-    }
-  }
-  return o;
+  const args = parseCommandArguments(command, argv, { port: 'value', 'data-dir': 'value', speed: 'value', 'no-build': 'flag' });
+  if (args.help) return 'help';
+  if (args.positionals.length > 0) throw new InputError(`rateline ${command}: unexpected argument "${args.positionals[0]}"; run "rateline ${command} --help" for the options.`);
+  return {
+    port: args.number('port', (x) => Number.isInteger(x) && x >= 0 && x <= 65535, 'a port number from 0 to 65535') ?? DEFAULT_PORT,
+    dataDir: args.value('data-dir') ?? null,
+    speed: args.number('speed', (x) => x >= 0.1 && x <= 10_000, 'a speed from 0.1 to 10000') ?? DEFAULT_SPEED,
+    build: !args.flag('no-build'),
+  };
 }
 
 /** Starts the service and the host; resolves when a signal closes them. */

@@ -6,7 +6,7 @@
  */
 import { writeFile } from 'node:fs/promises';
 import { InputError } from '../common/cliErrors';
-import { numberOption, parseArgs } from '../common/cliOptions';
+import { parseCommandArguments } from '../common/arguments';
 import { DEMO_RUN, simulateRun, type SimulatedOrder, type SimulatedRunSpec } from '../../../kinetics/reactionModel';
 import { halfLife } from '../../../kinetics/halfLife';
 
@@ -47,22 +47,24 @@ function demoK(order: SimulatedOrder, a0: number, aInf: number): number {
 
 export async function run(argv: string[]): Promise<number> {
   const cmd = 'simulate';
-  const args = parseArgs(cmd, argv, ['order', 'k', 'a0', 'a-inf', 'noise-t', 'dt', 'duration', 'seed', 'spikes', 'out']);
+  const args = parseCommandArguments(cmd, argv, {
+    order: 'value', k: 'value', a0: 'value', 'a-inf': 'value', 'noise-t': 'value', dt: 'value', duration: 'value', seed: 'value', spikes: 'value', out: 'value',
+  });
   if (args.help) { console.log(HELP); return 0; }
-  if (args.positional.length > 0) throw new InputError(`rateline simulate: unexpected argument "${args.positional[0]}"; the output file goes after --out.`);
-  const out = args.options.get('out');
+  if (args.positionals.length > 0) throw new InputError(`rateline simulate: unexpected argument "${args.positionals[0]}"; the output file goes after --out.`);
+  const out = args.value('out');
   if (!out) throw new InputError('rateline simulate: no --out FILE.csv given; say where to write the run.');
-  const order = parseOrder(args.options.get('order'));
-  const a0 = numberOption(cmd, args, 'a0', (x) => x > 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.a0;
-  const aInf = numberOption(cmd, args, 'a-inf', (x) => x >= 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.aInf;
+  const order = parseOrder(args.value('order'));
+  const a0 = args.number('a0', (x) => x > 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.a0;
+  const aInf = args.number('a-inf', (x) => x >= 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.aInf;
   if (!(aInf < a0)) throw new InputError(`rateline simulate: --a-inf ${aInf} is not below --a0 ${a0}; the absorbance must fall as the dye reacts.`);
-  const k = numberOption(cmd, args, 'k', (x) => x > 0, 'a positive rate constant') ?? demoK(order, a0, aInf);
-  const sigmaT = numberOption(cmd, args, 'noise-t', (x) => x >= 0 && x < 0.1, 'a transmittance noise between 0 and 0.1') ?? DEMO_RUN.sigmaT;
-  const dt_s = numberOption(cmd, args, 'dt', (x) => x > 0, 'a positive interval in seconds') ?? DEMO_RUN.dt_s;
-  const duration_s = numberOption(cmd, args, 'duration', (x) => x > 0, 'a positive duration in seconds') ?? DEMO_RUN.duration_s;
+  const k = args.number('k', (x) => x > 0, 'a positive rate constant') ?? demoK(order, a0, aInf);
+  const sigmaT = args.number('noise-t', (x) => x >= 0 && x < 0.1, 'a transmittance noise between 0 and 0.1') ?? DEMO_RUN.sigmaT;
+  const dt_s = args.number('dt', (x) => x > 0, 'a positive interval in seconds') ?? DEMO_RUN.dt_s;
+  const duration_s = args.number('duration', (x) => x > 0, 'a positive duration in seconds') ?? DEMO_RUN.duration_s;
   if (duration_s / dt_s > 2e7) throw new InputError(`rateline simulate: ${Math.round(duration_s / dt_s)} readings is too many; use a larger --dt or a shorter --duration (at most 2e7 readings).`);
-  const seed = numberOption(cmd, args, 'seed', (x) => Number.isInteger(x), 'a whole number') ?? DEMO_RUN.seed;
-  const spikes = numberOption(cmd, args, 'spikes', (x) => Number.isInteger(x) && x >= 0, 'a whole number of spikes') ?? 0;
+  const seed = args.number('seed', (x) => Number.isInteger(x), 'a whole number') ?? DEMO_RUN.seed;
+  const spikes = args.number('spikes', (x) => Number.isInteger(x) && x >= 0, 'a whole number of spikes') ?? 0;
   const spec: SimulatedRunSpec = { order, k, a0, aInf, sigmaT, dt_s, duration_s, seed, spikes };
   const runData = simulateRun(spec);
   const lines = [
