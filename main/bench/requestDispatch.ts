@@ -8,7 +8,7 @@ import type { SpectrumFrame } from '../../acquisition/sources/sourceTypes';
 import type { BridgeRequest } from '../bridge/contract';
 import type { BenchSession } from './benchSession';
 import { Refusal } from './refusal';
-import { exportCsv, type ExportInput } from './runExport';
+import { exportCsv, type ExportInput } from '../../acquisition/exports/runCsvExport';
 import { listRecordFiles, resolveRecordName } from './runsFolder';
 import { closeSource, connect, setSource, startRun, stopRun } from './runLifecycle';
 

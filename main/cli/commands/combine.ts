@@ -12,7 +12,7 @@ import { readUserText } from '../../../acquisition/files/runFile';
 import { extname, resolve } from 'node:path';
 import { InputError } from '../common/cliErrors';
 import { numberValue, parseCommandArguments } from '../common/arguments';
-import { CONCENTRATION_COLUMNS, parseNumericTable, readHeader } from '../common/numericCsv';
+import { CONCENTRATION_COLUMNS, parseNumericTable, readHeader } from '../../../acquisition/files/numericTable';
 import { formatCombinedText, type CombineBy, type CombinedRun, type LeftOutRun } from '../common/combineReport';
 import { parseRunCsv } from '../../../acquisition/files/runCsv';
 import { analysisReadings, parseRunRecord, type RunRecord } from '../../../acquisition/record/journalReader';
@@ -188,7 +188,8 @@ export async function run(argv: string[]): Promise<number> {
       }
       continue;
     }
-    const header = readHeader(text);
+    const read = readHeader(text, file, 'the columns time_s and absorbance (a run) or k and its x value (a summary of runs)');
+    const header = read.ok ? read.header : null;
     // A summary CSV names k or an x column and no time; a run CSV names time_s.
     const summaryNames = ['k', 'k_se', 'temperature_c', ...CONCENTRATION_COLUMNS.map((c) => c.name)];
     if (header && !header.names.includes('time_s') && header.names.some((n) => summaryNames.includes(n))) {

@@ -14,8 +14,7 @@ import { loadRun } from '../../../acquisition/files/runFile';
 import { readRunRecord } from '../../../acquisition/record/journalReader';
 import { RunAnalyzer } from '../../../kinetics/runAnalyzer';
 import type { AnalysisResult } from '../../../kinetics/analysisTypes';
-import { runCsv } from '../../bench/runExport';
-import { RunReadings } from '../../bench/runReadings';
+import { runCsv } from '../../../acquisition/exports/runCsvExport';
 
 const HELP = `usage: rateline export FILE --to jcamp|csv --out OUT
 
@@ -67,8 +66,7 @@ export async function run(argv: string[]): Promise<number> {
     if (!j.ok) throw new InputError(`${file}: ${j.error}`);
     text = j.text;
   } else {
-    const readings = new RunReadings();
-    for (let i = 0; i < loaded.time_s.length; i++) readings.push(loaded.time_s[i]!, loaded.absorbance[i]!, 0);
+    const readings = { length: loaded.time_s.length, time_s: loaded.time_s, absorbance: loaded.absorbance, flags: new Uint32Array(loaded.time_s.length) };
     text = runCsv({
       runId: details.title, demo: details.demo, sourceLabel: details.origin,
       details: { sample: details.title, operator: details.owner || undefined, temperature_C: details.temperature_C, concentrations: details.concentrations },

@@ -5,7 +5,7 @@
 import { readUserText } from '../../../acquisition/files/runFile';
 import { calibrate, type Calibration, type CalibrationStandard } from '../../../kinetics/calibration';
 import { InputError } from './cliErrors';
-import { concentrationColumn, parseNumericTable, readHeader, type ConcentrationColumn } from './numericCsv';
+import { concentrationColumn, parseNumericTable, readHeader, type ConcentrationColumn } from '../../../acquisition/files/numericTable';
 
 export interface FittedStandards {
   cal: Calibration;
@@ -17,8 +17,9 @@ export interface FittedStandards {
 /** Reads a CSV of standards and fits the Beer–Lambert line; every problem is one InputError naming the file and line. */
 export async function fitStandardsFile(file: string, options: { pathLength_cm: number; intercept: boolean }): Promise<FittedStandards> {
   const text = await readUserText(file, 'a CSV of standards (.csv)');
-  const header = readHeader(text);
-  if (!header) throw new InputError(`${file}: the file has no header row; the first line should name a concentration column (concentration_M, concentration_mM or concentration_uM) and absorbance.`);
+  const read = readHeader(text, file, 'a concentration column (concentration_M, concentration_mM or concentration_uM) and absorbance');
+  if (!read.ok) throw new InputError(read.error);
+  const header = read.header;
   const unit = concentrationColumn(header.names, file, header.line);
   if ('error' in unit) throw new InputError(unit.error);
   const table = parseNumericTable(text, file, [{ name: unit.name }, { name: 'absorbance' }], `${unit.name} and absorbance`);

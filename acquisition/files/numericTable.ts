@@ -1,12 +1,12 @@
 /**
  * A small table of numbers as CSV text, for the files the calibrate and combine
  * commands read (standards, per-run summaries): a header row naming the columns, then
- * one row a line. The same conventions as a run CSV (acquisition/files/runCsv.ts): comma or
- * semicolon separated, a decimal comma accepted with semicolons, lines starting with #
- * are comments, a byte-order mark is ignored. The run reader is bound to time_s and
- * absorbance, so this one takes the wanted columns by name. Pure: text in, rows (with
- * their 1-based line numbers) or one sentence naming the file and line out.
+ * one row a line, read by the one CSV reader (csvReader.ts, the same conventions as a
+ * run CSV). The run reader is bound to time_s and absorbance, so this one takes the
+ * wanted columns by name. Pure: text in, rows (with their 1-based line numbers) or one
+ * sentence naming the file and line out.
  */
+import { CsvText, csvNumber, notANumber, type CsvHeader } from './csvReader';
 
 export interface NumericTable {
   /** Column names as written in the header, lower-cased and trimmed. */
@@ -25,29 +25,17 @@ export interface ColumnRequest {
   optional?: boolean;
 }
 
-const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
-
-function unquote(cell: string): string {
-  const c = cell.trim();
-  return c.length >= 2 && c.startsWith('"') && c.endsWith('"') ? c.slice(1, -1).trim() : c;
-}
-
-/** The header row: its line and column names (lower-cased), or null when the file has none. */
-export function readHeader(text: string): { line: number; names: string[]; delimiter: ',' | ';' } | null {
-  const lines = text.split(/\r\n|\n|\r/);
-  for (let i = 0; i < lines.length; i++) {
-    const l = lines[i]!.replace(/^\uFEFF/, '').trim();
-    if (l === '' || l.startsWith('#')) continue;
-    const delimiter: ',' | ';' = l.includes(';') ? ';' : ',';
-    return { line: i + 1, names: l.split(delimiter).map((c) => unquote(c).toLowerCase()), delimiter };
-  }
-  return null;
+/** The header row, or why there is none; `names` completes "the first line should name …". */
+export function readHeader(text: string, file: string, names: string): { ok: true; header: CsvHeader } | { ok: false; error: string } {
+  const opened = CsvText.open(text, file, names);
+  return opened.ok ? { ok: true, header: opened.csv.header } : opened;
 }
 
 export function parseNumericTable(text: string, file: string, columns: readonly ColumnRequest[], hint: string): NumericTableParse {
-  const header = readHeader(text);
-  if (!header) return { ok: false, error: `${file}: the file has no header row; the first line should name the columns (${hint}).` };
-  const { names, delimiter, line: headerLine } = header;
+  const opened = CsvText.open(text, file, `the columns ${hint}`);
+  if (!opened.ok) return opened;
+  const { csv } = opened;
+  const { names, delimiter, line: headerLine } = csv.header;
   const index: number[] = [];
   for (const c of columns) {
     const at = names.indexOf(c.name.toLowerCase());
@@ -56,34 +44,24 @@ export function parseNumericTable(text: string, file: string, columns: readonly 
     }
     index.push(at);
   }
-  const lines = text.split(/\r\n|\n|\r/);
   const rows: NumericTable['rows'] = [];
-  for (let i = headerLine; i < lines.length; i++) {
-    const raw = lines[i]!;
-    const trimmed = raw.trim();
-    if (trimmed === '' || trimmed.startsWith('#')) continue;
-    const line = i + 1;
-    const cells = raw.split(delimiter);
+  const error = csv.forEachRow((cells, line) => {
     const values: (number | null)[] = [];
     for (let j = 0; j < columns.length; j++) {
       const col = columns[j]!;
       const at = index[j]!;
       if (at < 0) { values.push(null); continue; }
-      if (at >= cells.length && !col.optional) {
-        return { ok: false, error: `${file} line ${line}: ${cells.length} column(s), but the header needs ${at + 1}; fix or remove the line.` };
-      }
-      let cell = at < cells.length ? unquote(cells[at]!) : '';
-      if (cell === '' && col.optional) { values.push(null); continue; }
-      // With semicolons as separators a comma can only be the decimal sign.
-      if (delimiter === ';' && cell.includes(',') && !cell.includes('.')) cell = cell.replace(',', '.');
-      if (!NUMBER.test(cell)) {
-        const shown = cell === '' ? 'an empty cell' : `"${cell.length > 20 ? cell.slice(0, 20) + '…' : cell}"`;
-        return { ok: false, error: `${file} line ${line}: ${shown} in column ${col.name} is not a number; fix or remove the line.` };
-      }
-      values.push(Number(cell));
+      if (at >= cells.length && !col.optional) return `${file} line ${line}: ${cells.length} column(s), but the header needs ${at + 1}; fix or remove the line.`;
+      const cell = at < cells.length ? cells[at]! : '';
+      if (cell.trim() === '' && col.optional) { values.push(null); continue; }
+      const x = csvNumber(cell, delimiter);
+      if (!x) return notANumber(file, line, cell, col.name);
+      values.push(x.value);
     }
     rows.push({ line, values });
-  }
+    return null;
+  });
+  if (error !== null) return { ok: false, error };
   return { ok: true, table: { names, headerLine, rows } };
 }
 

@@ -6,17 +6,31 @@
 import { mkdir, rename, writeFile } from 'node:fs/promises';
 import { dirname } from 'node:path';
 import type { AnalysisResult } from '../../kinetics/analysisTypes';
-import type { SampleDetails } from '../bridge/contract';
-import type { RunReadings } from './runReadings';
+
+/** What the export says of the sample (the bench service's sample details fit this shape). */
+export interface ExportedSampleDetails {
+  sample?: string;
+  operator?: string;
+  temperature_C?: number | null;
+  concentrations?: { name: string; value: number; unit: string }[];
+}
+
+/** A run's readings as flat columns; the first `length` entries are the run. */
+export interface ExportedReadings {
+  readonly length: number;
+  readonly time_s: ArrayLike<number>;
+  readonly absorbance: ArrayLike<number>;
+  readonly flags: ArrayLike<number>;
+}
 
 export interface ExportInput {
   runId: string;
   demo: boolean;
   sourceLabel: string;
-  details: SampleDetails;
+  details: ExportedSampleDetails;
   wavelength_nm: number | null;
   timeZero_s: number;
-  readings: RunReadings;
+  readings: ExportedReadings;
   result: AnalysisResult | null;
 }
 
