@@ -14,6 +14,7 @@ import { SimulatedSource } from '../acquisition/sources/simulatedSource';
 import { SerialSource } from '../acquisition/sources/serialSource';
 import { absorbanceMaximum } from '../kinetics/bandMaximum';
 import type { ReadingSource, SourceListener } from '../acquisition/sources/sourceTypes';
+import { emptyRejectCounts } from '../acquisition/sources/sourceStatus';
 import { DEMO_RUN } from '../kinetics/reactionModel';
 import { RunAnalyzer } from '../kinetics/runAnalyzer';
 import { ReplyValueSchemas, type BridgeEvent, type PeakOffer, type SourceChoice } from './bridge/contract';
@@ -166,7 +167,7 @@ describe('find the peak: sources that cannot', () => {
       async open() { for (const l of listeners) l({ type: 'status', status: { kind: 'connected', detail: 'silent' } }); },
       async command() { return { ok: true }; },
       async close() {},
-      rejectedCounts: () => ({ checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 }),
+      rejectedCounts: () => emptyRejectCounts(),
     };
     const svc = bench(() => silent, 300);
     const events: BridgeEvent[] = [];

@@ -7,7 +7,7 @@
  */
 import { produce, type Draft } from 'immer';
 import type {
-  AnalysisResultView, BenchState, PeakOffer, BridgeEvent, RejectReasonName, SourceStatusView,
+  AnalysisResultView, BenchState, PeakOffer, BridgeEvent, RejectReason, SourceStatus,
 } from '../main/bridge/contract';
 import { ReceivedReadings } from './receivedReadings';
 
@@ -35,9 +35,9 @@ export interface ScreenState {
   analysis: AnalysisResultView | null;
   /** Readings the analysis had seen when it was made. */
   analysisAtCount: number;
-  sourceStatus: SourceStatusView | null;
-  rejected: Partial<Record<RejectReasonName, number>>;
-  lastRejected: { reason: RejectReasonName; line: string } | null;
+  sourceStatus: SourceStatus | null;
+  rejected: Partial<Record<RejectReason, number>>;
+  lastRejected: { reason: RejectReason; line: string } | null;
   recordPath: string | null;
   recordOpen: boolean;
   view: ChartView;

@@ -7,7 +7,7 @@
  * non-finite value, every refusal counted by reason.
  */
 import type { DeviceLine } from '../protocol/lineProtocol';
-import { emptyRejectCounts } from '../protocol/lineProtocol';
+import { emptyRejectCounts } from '../sources/sourceStatus';
 import { lastNumberProblem, parseDecimal } from '../protocol/decimalNumber';
 import type { RejectReason } from '../sources/sourceTypes';
 

@@ -9,6 +9,7 @@
  * and indexOf, no regular expressions and no split.
  */
 import type { DeviceIdentity, RejectReason, SpectrumFrame } from '../sources/sourceTypes';
+import { emptyRejectCounts } from '../sources/sourceStatus';
 import { ReadingFlag } from '../sources/sourceTypes';
 import { crc16 } from './crc16';
 import { lastNumberProblem, parseDecimal } from './decimalNumber';
@@ -38,9 +39,6 @@ export type DeviceLine =
   | { kind: 'empty' }
   | { kind: 'rejected'; reason: RejectReason; detail: string };
 
-export function emptyRejectCounts(): Record<RejectReason, number> {
-  return { checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 };
-}
 
 /** Where the fields of the line under parse start and end; reused, so a parse allocates little. */
 class Fields {

@@ -5,7 +5,7 @@
  * cell temperature. It never emits a non-finite absorbance.
  */
 import type { DeviceLine } from './lineProtocol';
-import type { DeviceIdentity, Reading, RejectReason, SourceEvent } from '../sources/sourceTypes';
+import type { DeviceIdentity, Reading, RejectCounts, SourceEvent } from '../sources/sourceTypes';
 import { ReadingFlag } from '../sources/sourceTypes';
 import {
   absorbanceFromCounts, analyzeBlank, DEFAULT_BASELINE_RULES, DEFAULT_COUNTS_LIMITS,
@@ -73,7 +73,7 @@ export class ReadingAssembler {
     this.temperatureOut = false;
   }
 
-  accept(line: DeviceLine, raw: string, hostTime_ms: number, counts: Record<RejectReason, number>): void {
+  accept(line: DeviceLine, raw: string, hostTime_ms: number, counts: RejectCounts): void {
     if (line.kind !== 'counts' || !line.blank) this.finishBlank();
     switch (line.kind) {
       case 'empty': return;

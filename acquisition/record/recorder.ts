@@ -14,7 +14,8 @@ import type { AnalysisResult, RunAnalyzerLike } from '../../kinetics/analysisTyp
 import { JournalError, type Journal } from './journal';
 import { isoWithLocalOffset, type RunEvent } from './runRecordFormat';
 import type { RecorderOptions, RecorderOutcome, RecorderProgress, StopReason, TimeZero } from './recorderTypes';
-import type { DeviceIdentity, RejectReason, Reading, ReadingSource, SourceEvent, SourceStatus } from '../sources/sourceTypes';
+import type { DeviceIdentity, RejectCounts, Reading, ReadingSource, SourceEvent, SourceStatus } from '../sources/sourceTypes';
+import { emptyRejectCounts } from '../sources/sourceStatus';
 import { listenToSource } from '../sources/replaySource';
 
 export type { RecorderOptions, RecorderOutcome, RecorderProgress, StopReason, TimeZero } from './recorderTypes';
@@ -34,7 +35,7 @@ export class Recorder {
   private status: SourceStatus | null = null;
   private identity: DeviceIdentity | null = null;
   private readonly headerIdentity: DeviceIdentity | null;
-  private rejected: Record<RejectReason, number> = emptyRejects();
+  private rejected: RejectCounts = emptyRejectCounts();
   private rejectedDirtySince_ms: number | null = null;
   private gaps = 0;
   private warnings = 0;
@@ -333,6 +334,3 @@ function sameIdentity(a: DeviceIdentity | null, b: DeviceIdentity): boolean {
   return a !== null && a.maker === b.maker && a.model === b.model && a.serial === b.serial && a.firmware === b.firmware && a.sends === b.sends;
 }
 
-function emptyRejects(): Record<RejectReason, number> {
-  return { checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 };
-}

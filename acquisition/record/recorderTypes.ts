@@ -1,7 +1,7 @@
 /** What the recorder is given, what it reports while it runs, and what it says when it stops. */
 import type { AnalysisResult, RunAnalyzerLike } from '../../kinetics/analysisTypes';
 import type { Journal } from './journal';
-import type { DeviceIdentity, RejectReason, ReadingSource, SourceStatus } from '../sources/sourceTypes';
+import type { DeviceIdentity, RejectCounts, ReadingSource, SourceStatus } from '../sources/sourceTypes';
 
 export type StopReason = 'user' | 'signal' | 'limit' | 'advice' | 'sourceEnded' | 'error';
 
@@ -43,7 +43,7 @@ export interface RecorderProgress {
   runTime_s: number | null;
   status: SourceStatus | null;
   identity: DeviceIdentity | null;
-  rejected: Record<RejectReason, number>;
+  rejected: RejectCounts;
   gaps: number;
   warnings: number;
   /** The latest warning if it came in the last 30 s (host time), else null. */

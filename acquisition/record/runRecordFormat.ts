@@ -6,6 +6,7 @@
  * must say the same thing.
  */
 import { z } from 'zod';
+import { SOURCE_STATUS_KINDS } from '../sources/sourceStatus';
 
 export const RUN_RECORD_FORMAT = 'rateline-run-record';
 export const RUN_RECORD_VERSION = 1;
@@ -94,9 +95,9 @@ export const readingLineSchema = z
     path: [3],
   });
 
-const sourceStatusSchema = z
-  .object({ kind: z.enum(['connecting', 'connected', 'disconnected', 'reconnecting', 'stale', 'ended', 'error']) })
-  .catchall(z.unknown());
+// A status in a record is checked for its kind only (the one list, sources/sourceStatus.ts),
+// so that a record keeps reading if a status gains a field.
+const sourceStatusSchema = z.object({ kind: z.enum(SOURCE_STATUS_KINDS) }).catchall(z.unknown());
 
 /** Every event carries the host time since the record was opened (h, ms) and the device time when known. */
 const at = { h: finite, t: optionalFinite };

@@ -11,7 +11,8 @@
 import { performance } from 'node:perf_hooks';
 import type { PlacedEvent, RunRecord } from '../record/journalReader';
 import type { RunEvent } from '../record/runRecordFormat';
-import type { RejectReason, Reading, ReadingSource, SourceCommand, SourceEvent, SourceListener } from './sourceTypes';
+import type { Reading, ReadingSource, RejectCounts, SourceCommand, SourceEvent, SourceListener } from './sourceTypes';
+import { emptyRejectCounts } from './sourceStatus';
 
 export type ReplaySpeed = number | 'max';
 
@@ -80,9 +81,6 @@ export function checkReplaySpeed(speed: unknown): { ok: true; speed: ReplaySpeed
   return { ok: false, error: `replay speed ${String(speed)} is not allowed; give a factor from ${MIN_REPLAY_SPEED} to ${MAX_REPLAY_SPEED}, or max.` };
 }
 
-const NO_REJECTS: Record<RejectReason, number> = {
-  checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0,
-};
 
 export class ReplaySource implements ReadingSource {
   readonly kind = 'replay' as const;
@@ -179,8 +177,8 @@ export class ReplaySource implements ReadingSource {
     this.state = 'closed';
   }
 
-  rejectedCounts(): Record<RejectReason, number> {
-    return { ...NO_REJECTS };
+  rejectedCounts(): RejectCounts {
+    return emptyRejectCounts();
   }
 
   /** Device time of the record's time zero (its first `mixed` event), or null when it has none (a CSV run). */

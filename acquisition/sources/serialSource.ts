@@ -9,7 +9,7 @@
 import { existsSync } from 'node:fs';
 import { SerialPort } from 'serialport';
 import { ReadlineParser } from '@serialport/parser-readline';
-import type { ReadingSource, RejectReason, SourceCommand, SourceEvent, SourceListener, SourceStatus } from './sourceTypes';
+import type { ReadingSource, RejectCounts, SourceCommand, SourceEvent, SourceListener, SourceStatus } from './sourceTypes';
 import { LineParser, MAX_LINE_CHARS, type DeviceLine } from '../protocol/lineProtocol';
 import { DelimitedReader, type DelimitedConfig } from '../plain/delimitedReader';
 import { LineCap } from '../protocol/lineCap';
@@ -48,7 +48,7 @@ export interface SerialSourceOptions {
 
 interface LineReader {
   parse(raw: string): DeviceLine;
-  readonly rejected: Record<RejectReason, number>;
+  readonly rejected: RejectCounts;
 }
 
 type Port = SerialPort;
@@ -117,7 +117,7 @@ export class SerialSource implements ReadingSource {
     return () => this.listeners.delete(listener);
   }
 
-  rejectedCounts(): Record<RejectReason, number> {
+  rejectedCounts(): RejectCounts {
     return { ...this.parser.rejected };
   }
 

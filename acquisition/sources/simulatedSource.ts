@@ -4,7 +4,7 @@
  * instrument's, so a demo run exercises the real path. Its clock runs at a speed
  * factor (1× real time up to as fast as the machine goes). Readings are demo data.
  */
-import type { ReadingSource, RejectReason, SourceCommand, SourceEvent, SourceListener } from './sourceTypes';
+import type { ReadingSource, RejectCounts, SourceCommand, SourceEvent, SourceListener } from './sourceTypes';
 import { LineParser } from '../protocol/lineProtocol';
 import { ReadingAssembler, type AssemblerOptions } from '../protocol/readingAssembler';
 import { CommandChannel, type CommandResult } from '../protocol/commandChannel';
@@ -57,7 +57,7 @@ export class SimulatedSource implements ReadingSource {
     return () => this.listeners.delete(listener);
   }
 
-  rejectedCounts(): Record<RejectReason, number> {
+  rejectedCounts(): RejectCounts {
     return { ...this.parser.rejected };
   }
 

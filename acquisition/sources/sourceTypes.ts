@@ -4,6 +4,10 @@
  * recorder and the `rateline record` command only ever see this.
  */
 
+import type { RejectCounts, RejectReason, SourceStatus } from './sourceStatus';
+
+export type { DeviceIdentity, RejectCounts, RejectReason, SourceStatus } from './sourceStatus';
+
 export type SourceKind = 'serial' | 'simulated' | 'replay';
 
 /** Flags a reading can carry (bit set). */
@@ -44,39 +48,11 @@ export interface SpectrumFrame {
   kind: 'absorbance' | 'counts';
 }
 
-export type RejectReason =
-  | 'checksum'
-  | 'malformed'
-  | 'overlong'
-  | 'nonFinite'
-  | 'timeBackwards'
-  | 'unitChange'
-  | 'binaryNoise'
-  | 'unknownType';
-
-export type SourceStatus =
-  | { kind: 'connecting'; detail: string }
-  | { kind: 'connected'; detail: string; identity?: DeviceIdentity }
-  | { kind: 'disconnected'; detail: string }
-  | { kind: 'reconnecting'; attempt: number; delay_ms: number; detail: string }
-  | { kind: 'stale'; sinceLastReading_ms: number; detail: string }
-  | { kind: 'ended'; detail: string }
-  | { kind: 'error'; message: string };
-
-export interface DeviceIdentity {
-  maker: string;
-  model: string;
-  serial: string;
-  firmware: string;
-  /** Whether the device sends raw counts (so a blank must be taken) or absorbance. */
-  sends: 'absorbance' | 'counts';
-}
-
 export type SourceEvent =
   | { type: 'reading'; reading: Reading }
   | { type: 'spectrum'; frame: SpectrumFrame }
   | { type: 'status'; status: SourceStatus }
-  | { type: 'rejected'; reason: RejectReason; line: string; counts: Record<RejectReason, number> }
+  | { type: 'rejected'; reason: RejectReason; line: string; counts: RejectCounts }
   /** The feed stopped and resumed (cable pulled, port reopened): no readings between. */
   | { type: 'gap'; from_ms: number; to_ms: number; reason: string }
   | { type: 'warning'; message: string }
@@ -109,7 +85,7 @@ export interface ReadingSource {
   command(cmd: SourceCommand): Promise<{ ok: true } | { ok: false; error: string }>;
   close(): Promise<void>;
   /** Rejected-line counts by reason, so far. */
-  rejectedCounts(): Record<RejectReason, number>;
+  rejectedCounts(): RejectCounts;
 }
 
 export type SourceCommand =

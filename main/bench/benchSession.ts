@@ -13,7 +13,8 @@ import { SpectrumWaiters } from './peakOffer';
 import { RecordWriter } from './recordWriter';
 import { Refusal, oneLine } from './refusal';
 import { RunData, analyzerOptions } from './runData';
-import { emptyRejectCounts, sourceLabel } from './runNaming';
+import { sourceLabel } from './runNaming';
+import { emptyRejectCounts } from '../../acquisition/sources/sourceStatus';
 import { SourceSlot } from './sourceSlot';
 
 export type Listener = (event: BridgeEvent) => void;

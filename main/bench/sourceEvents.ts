@@ -8,7 +8,7 @@ import type { RunEvent } from '../../acquisition/record/runRecordFormat';
 import type { Reading, SourceEvent } from '../../acquisition/sources/sourceTypes';
 import { bandMaximum } from '../../kinetics/bandMaximum';
 import type { BenchSession } from './benchSession';
-import { emptyRejectCounts } from './runNaming';
+import { emptyRejectCounts } from '../../acquisition/sources/sourceStatus';
 
 export function onSourceEvent(s: BenchSession, e: SourceEvent): void {
   switch (e.type) {
