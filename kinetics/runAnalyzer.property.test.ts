@@ -5,7 +5,7 @@ import { DEMO_RUN, simulateRun, type SimulatedRunSpec } from './reactionModel';
 import { fitZeroOrder } from './models/zeroOrder';
 import { fitFirstOrder } from './models/firstOrder';
 import { fitSecondOrder } from './models/secondOrder';
-import { seriesOf } from './models/testSeries';
+import { seriesOf } from '../test/fixtures/simulatedFitSeries';
 import { halfLife } from './halfLife';
 import type { IntegerOrder } from './analysisTypes';
 

@@ -6,7 +6,7 @@ import { fitZeroOrder, zeroOrderLaw } from './zeroOrder';
 import { fitFirstOrder, firstOrderLaw } from './firstOrder';
 import { fitSecondOrder, secondOrderLaw } from './secondOrder';
 import { fitNthOrder, nthOrderLaw } from './nthOrder';
-import { seriesOf, simulatedSeries } from './testSeries';
+import { seriesOf, simulatedSeries } from '../../test/fixtures/simulatedFitSeries';
 import type { ModelFit, RateLaw } from './modelTypes';
 
 const base = { aInfMin: -0.03 };
