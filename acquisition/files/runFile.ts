@@ -5,6 +5,7 @@
 import { readFile } from 'node:fs/promises';
 import { extname } from 'node:path';
 import { parseRunCsv } from './runCsv';
+import { TextDecodingError, decodeUserText } from './textDecoding';
 import { RunRecordError, analysisReadings, parseRunRecord } from '../record/journalReader';
 import { looksLikeRunRecordLine, type RecordCalibration } from '../record/runRecordFormat';
 
@@ -28,14 +29,22 @@ export class RunFileError extends Error {
  * the file. `expected` says what it should have been, e.g. "a run file (.jsonl or .csv)".
  */
 export async function readUserText(path: string, expected = 'a run file (.jsonl or .csv)'): Promise<string> {
+  let bytes: Buffer;
   try {
-    return await readFile(path, 'utf8');
+    bytes = await readFile(path);
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
     if (code === 'ENOENT') throw new RunFileError(`${path}: no such file; check the path.`);
     if (code === 'EISDIR') throw new RunFileError(`${path}: is a folder, not ${expected}; give the path of the file.`);
     if (code === 'EACCES' || code === 'EPERM') throw new RunFileError(`${path}: not allowed to read it; check the file's permissions.`);
     throw new RunFileError(`${path}: cannot be read (${code ?? String(err)}); check the path and the file's permissions.`);
+  }
+  // A byte-order mark or UTF-16, as editors and spreadsheets save text, is read as the same text.
+  try {
+    return decodeUserText(bytes, path).text;
+  } catch (err) {
+    if (err instanceof TextDecodingError) throw new RunFileError(err.message);
+    throw err;
   }
 }
 

@@ -238,7 +238,9 @@ function finish(out: string, outcome: RecorderOutcome, mode: 'text' | 'json', sa
         // Leave it; it holds nothing that could be lost.
       }
     }
-    console.error(`rateline record: ${outcome.error ?? outcome.detail}${outcome.readings > 0 ? ` (${outcome.readings} readings are kept in ${out})` : ''}`);
+    // A failed write says itself how many readings the file holds; any other fault gets the count here.
+    if (outcome.error !== null) console.error(`rateline record: ${outcome.error}`);
+    else console.error(`rateline record: ${outcome.detail}${outcome.readings > 0 ? ` (${outcome.readings} readings are kept in ${out})` : ''}`);
     return EXIT_BAD_INPUT;
   }
   if (mode === 'json') {
