@@ -104,7 +104,7 @@ describe('a disk that fills', () => {
     fs.fullCode = 'EFBIG';
     const { error } = feedUntilRefused(fs, 400);
     expect(error!.problem).toBe('fileSizeLimit');
-    expect(error!.message).toMatch(/^full\.jsonl: the run record could not be written further \(the file reached the largest size this system lets one file have \(a file-size limit, not a lack of space\)\); it holds \d+ readings \(the last at [\d.]+ s device time\), complete up to its last line; record the rest into a new file/);
+    expect(error!.message).toMatch(/^full\.jsonl: the run record could not be written further \(the file reached the largest size this system allows one file, a file-size limit rather than a lack of space\); it holds \d+ readings \(the last at [\d.]+ s device time\), complete up to its last line; record the rest into a new file/);
     expect(error!.message).not.toMatch(/free space/);
     expect(parseRunRecord(fs.written, 'full.jsonl').readings.count).toBe(error!.onDisk!.readings);
   });

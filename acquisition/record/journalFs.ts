@@ -114,7 +114,7 @@ export function writeProblem(err: unknown): { problem: JournalProblem; why: stri
       // Not a lack of space: one file may not grow past a limit (a user's `ulimit -f`, 4 GiB on a FAT32 stick).
       return {
         problem: 'fileSizeLimit',
-        why: 'the file reached the largest size this system lets one file have (a file-size limit, not a lack of space)',
+        why: 'the file reached the largest size this system allows one file, a file-size limit rather than a lack of space',
         todo: 'record the rest into a new file, or on a disk without that limit (FAT32 sticks stop at 4 GiB; ask for the file-size limit, ulimit -f, to be raised)',
       };
     case 'EIO':

@@ -223,7 +223,8 @@ export async function run(argv: string[]): Promise<number> {
     process.off('SIGINT', onInt);
     process.off('SIGTERM', onTerm);
   }
-  if (outcome.readings > 0) printProgress();
+  // After a failed write the analysis holds readings the file does not: the error's count is the one to see.
+  if (outcome.readings > 0 && outcome.error === null) printProgress();
   return finish(out, outcome, progressMode, say);
 }
 
