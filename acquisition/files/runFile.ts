@@ -6,6 +6,7 @@ import { readFile } from 'node:fs/promises';
 import { extname } from 'node:path';
 import { parseRunCsv } from './runCsv';
 import { TextDecodingError, decodeUserText } from './textDecoding';
+import { runProblem } from './runPlausibility';
 import { RunRecordError, analysisReadings, parseRunRecord } from '../record/journalReader';
 import { looksLikeRunRecordLine, type RecordCalibration } from '../record/runRecordFormat';
 
@@ -49,6 +50,14 @@ export async function readUserText(path: string, expected = 'a run file (.jsonl 
 }
 
 export async function loadRun(path: string): Promise<LoadedRun> {
+  const run = await readRun(path);
+  // A run that cannot be fitted as it is (times that do not advance, a swapped blank) is said now, in words.
+  const problem = runProblem(run.time_s, run.absorbance, path);
+  if (problem) throw new RunFileError(problem);
+  return run;
+}
+
+async function readRun(path: string): Promise<LoadedRun> {
   const ext = extname(path).toLowerCase();
   const text = await readUserText(path);
   // A run record by its extension or by its header line (a record renamed to .txt is still one).

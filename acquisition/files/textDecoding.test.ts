@@ -38,4 +38,9 @@ describe('the text of a file a person saved', () => {
     expect(() => decodeUserText(odd, 'odd.csv')).toThrow(TextDecodingError);
     expect(() => decodeUserText(odd, 'odd.csv')).toThrow(/^odd\.csv: reads as UTF-16 text but ends in half a character; save it again/);
   });
+
+  it('refuses binary data (a spreadsheet, a picture) in one sentence, not as a header of garbage', () => {
+    const zip = Buffer.concat([Buffer.from('PK\u0003\u0004', 'latin1'), Buffer.alloc(20), Buffer.from('[Content_Types].xml')]);
+    expect(() => decodeUserText(zip, 'run.xlsx')).toThrow(/^run\.xlsx: is not a text file \(it holds binary data/);
+  });
 });

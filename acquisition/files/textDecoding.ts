@@ -21,6 +21,9 @@ export function decodeUserText(bytes: Uint8Array, path: string): { text: string;
   if (b.length >= 2 && b[0] === 0xfe && b[1] === 0xff) return { text: utf16(b.subarray(2), 'be', path), encoding: 'utf-16be' };
   const unmarked = unmarkedUtf16(b);
   if (unmarked) return { text: utf16(b, unmarked, path), encoding: unmarked === 'le' ? 'utf-16le' : 'utf-16be' };
+  if (looksBinary(b)) {
+    throw new TextDecodingError(`${path}: is not a text file (it holds binary data, as a spreadsheet's .xlsx or an instrument's own format does); save the run as CSV text and give that file.`);
+  }
   return { text: b.toString('utf8'), encoding: 'utf-8' };
 }
 
@@ -52,4 +55,16 @@ function utf16(b: Buffer, order: 'le' | 'be', path: string): string {
   const swapped = Buffer.from(b);
   swapped.swap16();
   return swapped.toString('utf16le');
+}
+
+/**
+ * Zero bytes near the start of a file that is not UTF-16: binary data. Zero bytes only at
+ * the end are what a power cut leaves after a run record's last line, and are left to its
+ * reader.
+ */
+function looksBinary(b: Buffer): boolean {
+  let end = b.length;
+  while (end > 0 && b[end - 1] === 0) end--;
+  const start = b.subarray(0, Math.min(end, 512));
+  return start.includes(0);
 }

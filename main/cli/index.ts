@@ -5,6 +5,7 @@
 import { EXIT_BAD_INPUT, EXIT_FAULT, InputError, type CommandModule } from './common/cliErrors';
 import { RunFileError } from '../../acquisition/files/runFile';
 import { RunRecordError } from '../../acquisition/record/journalReader';
+import { guardTerminal } from './common/terminalText';
 
 interface CommandEntry {
   summary: string;
@@ -30,6 +31,9 @@ function usage(): string {
 }
 
 export async function main(argv: string[]): Promise<number> {
+  // Whatever a command prints may carry a file's or a person's text: no escape sequence in it reaches the terminal.
+  guardTerminal(process.stdout);
+  guardTerminal(process.stderr);
   const [name, ...rest] = argv;
   if (!name || name === '--help' || name === '-h' || name === 'help') {
     console.log(usage());
