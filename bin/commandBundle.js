@@ -72,7 +72,7 @@ function trackedPath(input) {
 /** One line for a build that failed: the first error esbuild reports, where it is. */
 function failureLine(err) {
   const first = err && Array.isArray(err.errors) ? err.errors[0] : null;
-  if (!first) return `rateline: the command could not be compiled into dist/cli/ (${String(err?.message ?? err).split('\n')[0]}).`;
+  if (!first) return `rateline: the command could not be compiled into dist/cli/ (${String(err?.message ?? err).split('\n')[0]}); check that the project folder can be written to.`;
   const where = first.location ? `${first.location.file.split(sep).join('/')} line ${first.location.line}: ` : '';
   const more = err.errors.length > 1 ? ` (and ${err.errors.length - 1} more)` : '';
   return `rateline: the command could not be compiled: ${where}${first.text}${more}; fix the source and run the command again.`;
@@ -133,12 +133,17 @@ export class CommandBundleError extends Error {}
  */
 export async function commandBundle(root, say = () => undefined) {
   if (commandBundleStaleReason(root) !== null) {
-    const { buildUnderLock } = await import('../main/buildLock.mjs');
-    await mkdir(join(root, 'dist'), { recursive: true });
-    await buildUnderLock(join(root, 'dist', '.cli-build.lock'), async () => commandBundleStaleReason(root), async (reason) => {
-      say(`rateline: compiling the command (${reason})…`);
-      await build(root, reason);
-    });
+    try {
+      const { buildUnderLock } = await import('../main/buildLock.mjs');
+      await mkdir(join(root, 'dist'), { recursive: true });
+      await buildUnderLock(join(root, 'dist', '.cli-build.lock'), async () => commandBundleStaleReason(root), async (reason) => {
+        say(`rateline: compiling the command (${reason})…`);
+        await build(root, reason);
+      });
+    } catch (err) {
+      // A folder that cannot be written, a disk that is full: one line too.
+      throw err instanceof CommandBundleError ? err : new CommandBundleError(failureLine(err));
+    }
   }
   const m = readManifest(root);
   if (m === null) throw new CommandBundleError('rateline: the command\'s bundle in dist/cli/ could not be read after building it; delete dist/cli/ and run the command again.');
