@@ -156,9 +156,12 @@ beforeAll(async () => {
   const appDir = join(scratch, 'app');
   mkdirSync(appDir);
   cpSync(join(ROOT, 'package.json'), join(appDir, 'package.json'));
-  // Decoys: the sources and the development entry lie beside dist/ as in the project, so a
-  // configuration that packed more than the build's output would pack them too.
-  for (const f of ['main', 'build', 'README.md', 'tsconfig.json']) cpSync(join(ROOT, f), join(appDir, f), { recursive: true });
+  // Decoys: the sources, the development entry, the command and its bundle's builder
+  // (bin/) and a command bundle (dist/cli/) lie beside the build's output as in the
+  // project, so a configuration that packed more than that output would pack them too.
+  for (const f of ['main', 'build', 'bin', 'README.md', 'tsconfig.json']) cpSync(join(ROOT, f), join(appDir, f), { recursive: true });
+  mkdirSync(join(appDir, 'dist', 'cli', 'decoy'), { recursive: true });
+  writeFileSync(join(appDir, 'dist', 'cli', 'decoy', 'rateline.js'), 'export {};\n');
   built = await buildApp(ROOT, appDir);
 
   const runtime = join(scratch, 'electron-stand-in');
@@ -258,6 +261,9 @@ describe('what electron-builder packs from it (Linux, unpacked, stand-in runtime
     // Nothing that compiles at launch: no sources, no development entry.
     expect(archive.files.filter((f) => /\.(ts|tsx|mts)$/.test(f.path) && !f.path.endsWith('.d.ts')).map((f) => f.path)).toEqual([]);
     expect(own).not.toContain('main/electronEntry.cjs');
+    // Nor the command's bundle or its builder: the app runs no command.
+    expect(own.filter((p) => p.startsWith('bin/') || p.startsWith('dist/cli/'))).toEqual([]);
+    expect(readFileSync(built.main, 'utf8')).not.toMatch(/commandBundle|buildLock/);
   });
 
   it('packs the node_modules the main bundle requires and their dependencies, as npm resolves them, and nothing else', () => {

@@ -1,10 +1,10 @@
 /**
  * The `rateline` command: one entry, subcommands loaded on demand so that
- * `rateline analyze` never loads the serial port or the web host.
+ * `rateline analyze` never loads the serial port or the web host, and `rateline --help`
+ * loads no command at all (nor zod). bin/rateline.js runs this file's compiled bundle,
+ * in which each import() below is a chunk of its own (bin/commandBundle.js).
  */
 import { EXIT_BAD_INPUT, EXIT_FAULT, InputError, type CommandModule } from './common/cliErrors';
-import { RunFileError } from '../../acquisition/files/runFile';
-import { RunRecordError } from '../../acquisition/record/journalReader';
 import { guardTerminal } from './common/terminalText';
 
 interface CommandEntry {
@@ -30,6 +30,24 @@ function usage(): string {
   return lines.join('\n');
 }
 
+/**
+ * Errors a user can cause, from any layer, are one line and exit 2: the command's own
+ * (InputError) and the files' (a run file that cannot be read, a damaged run record).
+ * The files' modules are loaded here, once something has gone wrong, not at start.
+ */
+async function causedByInput(err: unknown): Promise<boolean> {
+  if (err instanceof InputError) return true;
+  try {
+    const [{ RunFileError }, { RunRecordError }] = await Promise.all([
+      import('../../acquisition/files/runFile'),
+      import('../../acquisition/record/journalReader'),
+    ]);
+    return err instanceof RunFileError || err instanceof RunRecordError;
+  } catch {
+    return false;
+  }
+}
+
 export async function main(argv: string[]): Promise<number> {
   // Whatever a command prints may carry a file's or a person's text: no escape sequence in it reaches the terminal.
   guardTerminal(process.stdout);
@@ -48,10 +66,8 @@ export async function main(argv: string[]): Promise<number> {
     const mod = await entry.load();
     return await mod.run(rest);
   } catch (err) {
-    // Errors a user can cause, from any layer, are one line and exit 2: the command's own
-    // (InputError) and the files' (a run file that cannot be read, a damaged run record).
-    if (err instanceof InputError || err instanceof RunFileError || err instanceof RunRecordError) {
-      console.error(err.message);
+    if (await causedByInput(err)) {
+      console.error((err as Error).message);
       return EXIT_BAD_INPUT;
     }
     const detail = err instanceof Error ? err.message : String(err);

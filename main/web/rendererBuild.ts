@@ -1,10 +1,11 @@
 /**
  * The built screens (dist/renderer/), built on demand with vite's JS API when the
  * output is missing or older than any source the screens are made from. A lock folder
- * keeps two launches from building into the same folder at once.
+ * (main/buildLock.mjs) keeps two launches from building into the same folder at once.
  */
-import { mkdir, readdir, rm, stat } from 'node:fs/promises';
+import { mkdir, readdir, stat } from 'node:fs/promises';
 import { join } from 'node:path';
+import { buildUnderLock } from '../buildLock.mjs';
 
 /**
  * Folders and files that go into the screens' bundle: the renderer imports the contract
@@ -12,7 +13,6 @@ import { join } from 'node:path';
  */
 const SOURCE_DIRS = ['renderer', 'main/bridge', 'kinetics'];
 const SOURCE_FILES = ['acquisition/sources/sourceStatus.ts'];
-const STALE_LOCK_MS = 5 * 60_000;
 
 export function rendererOutDir(root: string): string {
   return join(root, 'dist', 'renderer');
@@ -48,33 +48,13 @@ export async function rendererBuildReason(root: string): Promise<string | null> 
   return newest > built_ms ? 'sources changed since the last build' : null;
 }
 
-const sleep = (ms: number): Promise<void> => new Promise((r) => setTimeout(r, ms));
-
 /** Builds the screens if needed; resolves to the output folder. `log` gets one line when a build runs. */
 export async function ensureRendererBuilt(root: string, log: (line: string) => void = () => undefined): Promise<string> {
-  const out = rendererOutDir(root);
-  const lock = join(root, 'dist', '.renderer-build.lock');
   await mkdir(join(root, 'dist'), { recursive: true });
-  for (;;) {
-    if ((await rendererBuildReason(root)) === null) return out;
-    try {
-      await mkdir(lock);
-      break;
-    } catch {
-      // Another launch is building: wait for it, unless its lock is left over from a crash.
-      const age = await stat(lock).then((s) => Date.now() - s.mtimeMs, () => 0);
-      if (age > STALE_LOCK_MS) await rm(lock, { recursive: true, force: true });
-      else await sleep(250);
-    }
-  }
-  try {
-    const reason = await rendererBuildReason(root);
-    if (reason === null) return out;
+  await buildUnderLock(join(root, 'dist', '.renderer-build.lock'), () => rendererBuildReason(root), async (reason) => {
     log(`building the screens (${reason})…`);
     const { build } = await import('vite');
     await build({ configFile: join(root, 'renderer', 'vite.config.ts'), logLevel: 'warn' });
-    return out;
-  } finally {
-    await rm(lock, { recursive: true, force: true });
-  }
+  });
+  return rendererOutDir(root);
 }

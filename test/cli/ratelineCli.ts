@@ -1,13 +1,15 @@
 /**
  * The real `rateline` command for the command tests: `node bin/rateline.js ARGS` run as
  * a child process in a folder of the test's own, with its exit code and both streams.
+ * bin/rateline.js runs the command's compiled bundle (dist/cli/, bin/commandBundle.js),
+ * so these tests run what a user runs.
  */
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync } from 'node:fs';
+import { cpSync, mkdtempSync, symlinkSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 
-export const ROOT = join(__dirname, '..', '..');
+export const ROOT = join(import.meta.dirname, '..', '..');
 
 export interface CommandRun {
   code: number | null;
@@ -23,4 +25,21 @@ export function ratelineIn(tempPrefix: string): { dir: string; rateline: (...arg
     return { code: r.status, out: r.stdout, err: r.stderr };
   };
   return { dir, rateline };
+}
+
+/** What the command is built from, copied into a scratch project (tests and bench files left out). */
+const COMMAND_SOURCES = ['bin', 'main', 'acquisition', 'kinetics', 'package.json', 'tsconfig.json'];
+
+/**
+ * A copy of the project as a fresh clone has it after `npm install` (the sources, no
+ * dist/; node_modules linked to the project's), for tests and benchmarks that build the
+ * command's bundle or edit a source without touching the project's own.
+ */
+export function scratchProject(tempPrefix: string): string {
+  const dir = mkdtempSync(join(tmpdir(), tempPrefix));
+  for (const f of COMMAND_SOURCES) {
+    cpSync(join(ROOT, f), join(dir, f), { recursive: true, filter: (src) => !/\.test\.ts$/.test(src) });
+  }
+  symlinkSync(join(ROOT, 'node_modules'), join(dir, 'node_modules'), 'dir');
+  return dir;
 }

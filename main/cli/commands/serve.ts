@@ -3,6 +3,7 @@
  * loopback web host, for a browser on this computer. Runs until Ctrl-C or SIGTERM, then
  * closes any run cleanly (its record ends properly).
  */
+import { existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createBenchService, defaultDataDir, DEFAULT_SPEED } from '../../bench/benchWiring';
@@ -13,7 +14,16 @@ import { InputError } from '../common/cliErrors';
 import { parseCommandArguments } from '../common/arguments';
 
 export const DEFAULT_PORT = 4180;
-export const PROJECT_ROOT = join(dirname(fileURLToPath(import.meta.url)), '..', '..', '..');
+/**
+ * The project folder: the nearest one above this module that holds package.json. The
+ * module runs from main/cli/commands/ (tests) or from a chunk of the command's bundle in
+ * dist/cli/ (bin/commandBundle.js), so a fixed number of '..' would fit only one of them.
+ */
+export const PROJECT_ROOT = (() => {
+  let dir = dirname(fileURLToPath(import.meta.url));
+  while (!existsSync(join(dir, 'package.json')) && dirname(dir) !== dir) dir = dirname(dir);
+  return dir;
+})();
 
 export interface ServeOptions {
   port: number;
