@@ -4,6 +4,7 @@
  *   or through a user namespace), so nothing is mounted on the machine and the mount
  *   goes with the child; the kernel cuts the last write short, then refuses it (ENOSPC);
  * - `ulimit -f` in the child's shell, so the kernel refuses to let the file grow (EFBIG).
+ * - the runs folder deleted under a running record, which writes alone never report.
  * Either way the command must stop with exit 2 and one sentence that says how many
  * readings the file holds, and the file must be a valid record of exactly that many
  * (read by our reader and by a plain JSON Lines read). The records are left in
@@ -93,4 +94,27 @@ describe('rateline record on a disk that fills', () => {
     mkdirSync(ARTIFACTS, { recursive: true });
     copyFileSync(record, join(ARTIFACTS, 'file-size-limit.jsonl'));
   });
+
+  it('stops with one sentence when the runs folder is deleted under the record', async () => {
+    const runs = join(dir, 'runs-to-delete');
+    mkdirSync(runs);
+    const p = spawn(process.execPath, ['bin/rateline.js', 'record', '--simulate', '--speed', '20', '--progress', 'json', '--progress-ms', '100', '--out', join(runs, 'run.jsonl')], { cwd: ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
+    let err = '';
+    p.stderr.on('data', (d) => (err += String(d)));
+    const exited = new Promise<number | null>((resolve) => p.on('exit', (code) => resolve(code)));
+    await new Promise<void>((resolve) => {
+      let out = '';
+      p.stdout.on('data', (d) => {
+        out += String(d);
+        if (/"journalled":[1-9]/.test(out)) resolve();
+      });
+    });
+    rmSync(runs, { recursive: true, force: true });
+    const code = await Promise.race([exited, new Promise<'still running'>((r) => setTimeout(() => r('still running'), 20_000))]);
+    if (code === 'still running') p.kill('SIGKILL');
+    expect(code, err).toBe(2);
+    const lines = err.trim().split('\n');
+    expect(lines).toHaveLength(1);
+    expect(lines[0]).toMatch(/^rateline record: .*run\.jsonl: the run record could not be written further \(the file, or the folder holding it, was deleted while recording\); none of its \d+ readings can be found on the disk any more; record again to a folder that stays\.$/);
+  }, 60_000);
 });

@@ -206,6 +206,19 @@ export class Journal {
     this.unsyncedSince_ms = null;
     this.syncedReadings = this.writtenReadings;
     this.syncedLastT = this.writtenLastT;
+    // Deleting the record (or its folder) does not make writes fail: they go on into a file
+    // no one can open again. So at each commit, the file must still have its name.
+    if (this.fs.linkCount && this.linkCountSafe() === 0) {
+      throw this.fail(Object.assign(new Error('the record file has no name left'), { code: 'RATELINE_UNLINKED' }), { readings: 0, lastDeviceTime_s: null, synced: true });
+    }
+  }
+
+  private linkCountSafe(): number | null {
+    try {
+      return this.fs.linkCount!(this.fd);
+    } catch {
+      return null; // a file system that cannot say: the writes and fsyncs above are the check
+    }
   }
 
   /**
@@ -345,9 +358,11 @@ export class Journal {
     const { problem, why, todo } = writeProblem(err);
     const n = onDisk.readings;
     const last = onDisk.lastDeviceTime_s !== null ? ` (the last at ${onDisk.lastDeviceTime_s} s device time)` : '';
-    const holds = onDisk.synced
-      ? `it holds ${n} reading${n === 1 ? '' : 's'}${last}, complete up to its last line`
-      : `it holds ${n} reading${n === 1 ? '' : 's'}${last}, of which the disk confirmed the first ${this.syncedReadings}`;
+    const holds = problem === 'diskGone' && errorCode(err) === 'RATELINE_UNLINKED'
+      ? `none of its ${this.syncedReadings} reading${this.syncedReadings === 1 ? '' : 's'} can be found on the disk any more`
+      : onDisk.synced
+        ? `it holds ${n} reading${n === 1 ? '' : 's'}${last}, complete up to its last line`
+        : `it holds ${n} reading${n === 1 ? '' : 's'}${last}, of which the disk confirmed the first ${this.syncedReadings}`;
     this.failure = new JournalError(`${this.path}: the run record could not be written further (${why}); ${holds}; ${todo}.`, errorCode(err), problem, onDisk);
     this.failure.cause = err;
     if (onDisk.synced) {

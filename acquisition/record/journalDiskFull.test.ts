@@ -167,4 +167,25 @@ describe('a disk that fills', () => {
     );
     expect(fs.removed).toEqual(['tiny.jsonl']);
   });
+
+  it('notices a record deleted under it (its folder removed), which writes alone never say', () => {
+    const fs = memoryJournalFs();
+    let now = 0;
+    const j = Journal.create('gone.jsonl', demoHeader(), { fs, timer: false, now_ms: () => now });
+    j.reading(reading(0, 0.5));
+    now = 300;
+    j.reading(reading(1, 0.5)); // committed
+    fs.links = 0; // rm -r of the runs folder: the open file has no name left
+    j.reading(reading(2, 0.5));
+    now = 600;
+    let caught: JournalError | null = null;
+    try {
+      j.reading(reading(3, 0.5));
+    } catch (err) {
+      caught = err as JournalError;
+    }
+    expect(caught?.problem).toBe('diskGone');
+    expect(caught!.message).toBe('gone.jsonl: the run record could not be written further (the file, or the folder holding it, was deleted while recording); none of its 4 readings can be found on the disk any more; record again to a folder that stays.');
+    expect(j.progress().syncedReadings).toBe(0);
+  });
 });

@@ -18,6 +18,12 @@ export interface JournalFs {
   /** Cuts the file to `length` bytes (a line cut short by a failing write is taken back). */
   ftruncateSync(fd: number, length: number): void;
   closeSync(fd: number): void;
+  /**
+   * How many names the open file still has in its folder (0 once it, or its folder, was
+   * deleted: writes then go on succeeding into a file nobody can open again). Optional:
+   * without it the check is skipped.
+   */
+  linkCount?(fd: number): number;
   /** Removes a file (only a record whose header could not be written: it holds nothing). */
   unlinkSync(path: string): void;
   /** Make the new directory entry durable (best effort; not every system can). */
@@ -30,6 +36,7 @@ export const defaultFs: JournalFs = {
   fsyncSync: (fd) => nodeFs.fsyncSync(fd),
   ftruncateSync: (fd, length) => nodeFs.ftruncateSync(fd, length),
   closeSync: (fd) => nodeFs.closeSync(fd),
+  linkCount: (fd) => nodeFs.fstatSync(fd).nlink,
   unlinkSync: (path) => nodeFs.unlinkSync(path),
   syncDirectory: (dir) => {
     let fd: number | null = null;
@@ -126,6 +133,8 @@ export function writeProblem(err: unknown): { problem: JournalProblem; why: stri
       return { problem: 'diskGone', why: 'the disk or folder holding it went away (a removed USB stick, or a network folder that dropped)', todo: 'put it back or choose another folder, and record again' };
     case 'EROFS':
       return { problem: 'readOnly', why: 'the disk became read-only (the system does this to a disk with errors)', todo: 'check the disk, and record again to another folder' };
+    case 'RATELINE_UNLINKED':
+      return { problem: 'diskGone', why: 'the file, or the folder holding it, was deleted while recording', todo: 'record again to a folder that stays' };
     default:
       return { problem: 'writeFailed', why: describe(err), todo: 'check the disk, and record again to another folder' };
   }
