@@ -58,6 +58,13 @@ describe('a run that makes no sense is refused in one sentence, not fitted', () 
       /^negative\.csv: every reading is before time zero \(from -100 s to -51 s\), but times are seconds after mixing; shift them so that mixing is at 0 s\.$/);
   });
 
+  it('the same checks when runs are combined', () => {
+    expect(rateline('simulate', '--out', 'combine-a.csv').code).toBe(0);
+    const before = file('before-mixing.csv', csv(50, (i) => [i - 100, decay(i)]));
+    refused(rateline('combine', 'combine-a.csv', before, '--by', 'concentration', '--value', 'combine-a.csv=0.01', `${before}=0.02`),
+      /^before-mixing\.csv: every reading is before time zero/);
+  });
+
   it('every time the same', () => {
     refused(rateline('analyze', file('sametime.csv', csv(50, (i) => [5, decay(i)]))),
       /^sametime\.csv: every reading is at the same time \(5 s\), so the time column does not advance; check that it holds each reading's time in seconds\.$/);

@@ -15,6 +15,7 @@ import { InputError } from '../common/cliErrors';
 import { numberValue, parseCommandArguments } from '../common/arguments';
 import { CONCENTRATION_COLUMNS, parseNumericTable, readHeader } from '../../../acquisition/files/numericTable';
 import { shownNames } from '../../../acquisition/files/csvReader';
+import { runProblem } from '../../../acquisition/files/runPlausibility';
 import { formatCombinedText, type CombineBy, type CombinedRun, type LeftOutRun } from '../common/combineReport';
 import { parseRunCsv } from '../../../acquisition/files/runCsv';
 import { analysisReadings, parseRunRecord, type RunRecord } from '../../../acquisition/record/journalReader';
@@ -135,6 +136,9 @@ function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string
   if (time_s.length < MIN_POINTS_TO_ESTIMATE) {
     throw new InputError(`${file}: only ${time_s.length} reading(s); a fit needs at least ${MIN_POINTS_TO_ESTIMATE}. Record a longer run or leave this file out.`);
   }
+  // The same checks of a run as a whole as rateline analyze makes (times that advance, a swapped blank).
+  const problem = runProblem(time_s, absorbance, file);
+  if (problem) throw new InputError(problem);
   const analyzer = new RunAnalyzer();
   for (let i = 0; i < time_s.length; i++) analyzer.add(time_s[i]!, absorbance[i]!);
   const r = analyzer.flush();
