@@ -22,7 +22,8 @@
  */
 import { dirname } from 'node:path';
 import { performance } from 'node:perf_hooks';
-import { JournalError, creationError, defaultFs, errorCode, writeProblem, type JournalFs, type RecordOnDisk } from './journalFs';
+import { JournalError, creationError, defaultFs, type JournalFs, type RecordOnDisk } from './journalFs';
+import { UNLINKED_CODE, completeLines, writeFailure } from './writeFailure';
 import { endSchema, eventSchema, headerSchema, isoWithLocalOffset, type RecordHeader, type RunEvent } from './runRecordFormat';
 import type { Reading } from '../sources/sourceTypes';
 
@@ -209,7 +210,7 @@ export class Journal {
     // Deleting the record (or its folder) does not make writes fail: they go on into a file
     // no one can open again. So at each commit, the file must still have its name.
     if (this.fs.linkCount && this.linkCountSafe() === 0) {
-      throw this.fail(Object.assign(new Error('the record file has no name left'), { code: 'RATELINE_UNLINKED' }), { readings: 0, lastDeviceTime_s: null, synced: true });
+      throw this.fail(Object.assign(new Error('the record file has no name left'), { code: UNLINKED_CODE }), { readings: 0, lastDeviceTime_s: null, synced: true });
     }
   }
 
@@ -333,40 +334,26 @@ export class Journal {
    * torn last line that cannot be cut is still dropped by the reader as a crash artefact.
    */
   private takeBackPartial(bytes: Buffer, done: number): RecordOnDisk {
-    const complete = done > 0 ? bytes.lastIndexOf(0x0a, done - 1) + 1 : 0;
-    let readings = this.writtenReadings;
-    let lastT = this.writtenLastT;
-    // Reading lines start with '[' and events with '{' (RUN_RECORD.md); only complete lines count.
-    for (let i = 0; i < complete; i = bytes.indexOf(0x0a, i) + 1) {
-      if (bytes[i] === 0x5b) {
-        readings++;
-        lastT = Number(bytes.toString('latin1', i + 1, bytes.indexOf(0x2c, i)));
-      }
-    }
+    const complete = completeLines(bytes, done);
     let synced = true;
     try {
-      if (complete < done) this.fs.ftruncateSync(this.fd, this.fileBytes + complete);
+      if (complete.bytes < done) this.fs.ftruncateSync(this.fd, this.fileBytes + complete.bytes);
       this.fs.fsyncSync(this.fd);
     } catch {
       synced = false;
     }
-    this.fileBytes += complete;
-    return { readings, lastDeviceTime_s: lastT, synced };
+    this.fileBytes += complete.bytes;
+    return {
+      readings: this.writtenReadings + complete.readings,
+      lastDeviceTime_s: complete.readings > 0 ? complete.lastDeviceTime_s : this.writtenLastT,
+      synced,
+    };
   }
 
   private fail(err: unknown, onDisk: RecordOnDisk): JournalError {
-    const { problem, why, todo } = writeProblem(err);
-    const n = onDisk.readings;
-    const last = onDisk.lastDeviceTime_s !== null ? ` (the last at ${onDisk.lastDeviceTime_s} s device time)` : '';
-    const holds = problem === 'diskGone' && errorCode(err) === 'RATELINE_UNLINKED'
-      ? `none of its ${this.syncedReadings} reading${this.syncedReadings === 1 ? '' : 's'} can be found on the disk any more`
-      : onDisk.synced
-        ? `it holds ${n} reading${n === 1 ? '' : 's'}${last}, complete up to its last line`
-        : `it holds ${n} reading${n === 1 ? '' : 's'}${last}, of which the disk confirmed the first ${this.syncedReadings}`;
-    this.failure = new JournalError(`${this.path}: the run record could not be written further (${why}); ${holds}; ${todo}.`, errorCode(err), problem, onDisk);
-    this.failure.cause = err;
+    this.failure = writeFailure(this.path, err, onDisk, this.syncedReadings);
     if (onDisk.synced) {
-      this.syncedReadings = n;
+      this.syncedReadings = onDisk.readings;
       this.syncedLastT = onDisk.lastDeviceTime_s;
     }
     this.stopTimer();

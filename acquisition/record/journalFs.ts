@@ -110,32 +110,3 @@ export function creationError(path: string, err: unknown): JournalError {
       return new JournalError(`${path}: could not create the run record (${describe(err)}); check the folder, or choose another place.`, code, 'notCreated');
   }
 }
-
-/** Why a write failed, in the user's words, and what to do about it. */
-export function writeProblem(err: unknown): { problem: JournalProblem; why: string; todo: string } {
-  switch (errorCode(err)) {
-    case 'ENOSPC':
-    case 'EDQUOT':
-      return { problem: 'diskFull', why: 'the disk is full', todo: 'free space or choose another disk, and record again' };
-    case 'EFBIG':
-      // Not a lack of space: one file may not grow past a limit (a user's `ulimit -f`, 4 GiB on a FAT32 stick).
-      return {
-        problem: 'fileSizeLimit',
-        why: 'the file reached the largest size this system allows one file, a file-size limit rather than a lack of space',
-        todo: 'record the rest into a new file, or on a disk without that limit (FAT32 sticks stop at 4 GiB; ask for the file-size limit, ulimit -f, to be raised)',
-      };
-    case 'EIO':
-      return { problem: 'ioError', why: 'the disk reported an input/output error (a removed USB stick, or a failing disk)', todo: 'check the disk, and record again to another folder' };
-    case 'ENODEV':
-    case 'ENXIO':
-    case 'ESTALE':
-    case 'ENOENT':
-      return { problem: 'diskGone', why: 'the disk or folder holding it went away (a removed USB stick, or a network folder that dropped)', todo: 'put it back or choose another folder, and record again' };
-    case 'EROFS':
-      return { problem: 'readOnly', why: 'the disk became read-only (the system does this to a disk with errors)', todo: 'check the disk, and record again to another folder' };
-    case 'RATELINE_UNLINKED':
-      return { problem: 'diskGone', why: 'the file, or the folder holding it, was deleted while recording', todo: 'record again to a folder that stays' };
-    default:
-      return { problem: 'writeFailed', why: describe(err), todo: 'check the disk, and record again to another folder' };
-  }
-}

@@ -4,7 +4,8 @@
  * and also append-only.
  */
 import { closeSync, existsSync, fstatSync, fsyncSync, ftruncateSync, openSync, readFileSync, writeSync } from 'node:fs';
-import { JournalError, writeProblem } from './journalFs';
+import { JournalError } from './journalFs';
+import { writeProblem } from './writeFailure';
 import { isoWithLocalOffset, sidecarNoteSchema, type SidecarNote } from './runRecordFormat';
 import { RunRecordError } from './journalReader';
 
