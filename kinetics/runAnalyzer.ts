@@ -23,7 +23,7 @@ import { fitZeroOrder, zeroOrderLaw } from './models/zeroOrder';
 import { firstOrderLaw, fitFirstOrder } from './models/firstOrder';
 import { fitSecondOrder, secondOrderLaw } from './models/secondOrder';
 import { fitNthOrder, nthOrderLaw } from './models/nthOrder';
-import { binMean, finishFit } from './models/fitStatistics';
+import { binMean, finishFit } from './models/rateLawStatistics';
 import { fractionConvertedAt } from './halfLife';
 import { K, ORDER } from './models/modelTypes';
 import { buildReport, emptyReport, type ReportInput } from './analysisReport';

@@ -5,7 +5,7 @@ import { fitLeastSquares } from './leastSquares';
 import { parseStrd, type StrdDataset } from './nistStrd';
 import type { FitProblem } from './fitTypes';
 
-const dir = join(__dirname, '../../../shared/reference/nist-strd');
+const dir = join(__dirname, '../../test/fixtures/nist-strd');
 const load = (file: string): StrdDataset => parseStrd(readFileSync(join(dir, file), 'utf8'));
 
 /** Number of matching significant digits, −log10 |a − b| / |b| (LRE, as NIST's own accuracy papers count them). */

@@ -6,7 +6,7 @@ import { linearFit } from './linearFit';
 import { parseStrd, type StrdDataset } from './nistStrd';
 import { seededRandom } from '../random';
 
-const dir = join(__dirname, '../../../shared/reference/nist-strd');
+const dir = join(__dirname, '../../test/fixtures/nist-strd');
 const load = (file: string): StrdDataset => parseStrd(readFileSync(join(dir, file), 'utf8'));
 const digits = (a: number, b: number): number => (a === b ? 16 : -Math.log10(Math.abs(a - b) / Math.abs(b)));
 

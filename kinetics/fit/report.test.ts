@@ -6,7 +6,7 @@ import { fitLeastSquares } from './leastSquares';
 import { linearFit } from './linearFit';
 import { parseStrd } from './nistStrd';
 
-const dir = join(__dirname, '../../../shared/reference/nist-strd');
+const dir = join(__dirname, '../../test/fixtures/nist-strd');
 
 describe('number formatting', () => {
   it('standard error to two significant figures, value to the same place', () => {

@@ -9,7 +9,7 @@ import { fitLeastSquares } from '../fit/leastSquares';
 import type { ParameterSpec } from '../fit/fitTypes';
 import type { ModelName } from '../analysisTypes';
 import { AINF, A0, K, ORDER, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
-import { binMean, finishFit } from './fitStatistics';
+import { binMean, finishFit } from './rateLawStatistics';
 
 export interface CoreBounds {
   /** Extra parameter bounds beyond k ≥ 0, C ≥ 0, A∞ ≥ aInfMin (for the order n). */

@@ -6,7 +6,7 @@
  * the way a joint 3-parameter search can when A∞ and k trade against each other.
  */
 import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
-import { aInfAtFloorWarning, finishFit } from './fitStatistics';
+import { aInfAtFloorWarning, finishFit } from './rateLawStatistics';
 
 export const firstOrderLaw: RateLaw = {
   name: 'first',

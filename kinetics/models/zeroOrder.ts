@@ -6,7 +6,7 @@
  * (A0 − A∞)/k found by iterating: fit, find the end, refit, until the split is stable.
  */
 import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
-import { finishFit } from './fitStatistics';
+import { finishFit } from './rateLawStatistics';
 
 const before = (tau: number, p: Float64Array): boolean => p[K] <= 0 || tau < (p[A0] - p[AINF]) / p[K];
 
