@@ -31,10 +31,11 @@ import { absorbanceSigma } from './reactionModel';
 import { fitZeroOrder, zeroOrderLaw } from './models/zeroOrder';
 import { firstOrderLaw, fitFirstOrder } from './models/firstOrder';
 import { fitSecondOrder, secondOrderLaw } from './models/secondOrder';
-import { fitNthOrder, nthOrderLaw } from './models/nthOrder';
+import { nthOrderLaw } from './models/nthOrder';
+import { fitNthOrderSound } from './models/nthOrderStart';
 import { binMean, failedModelFit } from './models/rateLawStatistics';
-import { fractionConvertedAt, halfLife, timeToFraction } from './halfLife';
-import { K, ORDER } from './models/modelTypes';
+import { fractionConvertedAt, timeToFraction } from './halfLife';
+import { K } from './models/modelTypes';
 import { buildReport, emptyReport, NO_LEFT_OUT, type ReportInput } from './analysisReport';
 import { StopAdvisor } from './stopAdvice';
 import { absorbanceOf, endValueBounds, READABLE_RANGE_AU, signalOf } from './endValueBounds';
@@ -289,40 +290,16 @@ export class RunAnalyzer implements RunAnalyzerLike {
     return { zero, first, second, nth };
   }
 
-  /**
-   * n-th order: only past NTH_MIN_FRACTION converted; warm start, else from the best
-   * integer order (n = 0.05, 1.01 or 2), and if that fails from the next best.
-   * A warm start can lock onto a degenerate early answer (a curve that has collapsed onto
-   * A∞ before the first reading, k in the hundreds): since the n-th order family holds the
-   * first- and second-order curves, its χ² can never rightly exceed theirs, so a warm
-   * answer that does, or fails, is dropped and the fit restarts cold from them.
-   */
+  /** n-th order: only past NTH_MIN_FRACTION converted; a warm start it can trust, else cold (nthOrderStart.ts). */
   private fitNth(s: FitSeries, base: ModelOptions, zero: ModelFit, first: ModelFit, second: ModelFit): ModelFit {
     const tauLast = this.time[this.winFirst + this.winCount - 1] - this.origin_s;
     const f = first.ok ? fractionConvertedAt('first', first.params, tauLast) : null;
     if (f === null || f < NTH_MIN_FRACTION || s.readings < NTH_MIN_READINGS) {
       return failedModelFit('nth', `n-th order: not fitted below ${100 * NTH_MIN_FRACTION}% converted; the order cannot be told yet`);
     }
-    const integer = [zero, first, second].filter((x): x is FittedModel => x.ok).sort((a, b) => a.aicc - b.aicc);
-    const cold: Float64Array[] = integer.map((x) => {
-      const st = new Float64Array(4);
-      st.set(x.params);
-      st[ORDER] = x.model === 'zero' ? 0.05 : x.model === 'first' ? 1.01 : 2;
-      return st;
-    });
-    const nested = [first, second].filter((x): x is FittedModel => x.ok).map((x) => x.chiSquare);
-    const ceiling = nested.length ? Math.min(...nested) * (1 + 1e-6) : Number.POSITIVE_INFINITY;
-    const sound = (x: ModelFit): boolean => x.ok && x.chiSquare <= ceiling;
-    const warm = this.previous.nth && ((this.previous.nth[1] - this.previous.nth[2] < 0 ? -1 : 1) === base.direction) ? this.previous.nth : undefined;
-    let nth: ModelFit = warm ? fitNthOrder(s, { ...base, previous: warm }) : failedModelFit('nth', 'n-th order: no start yet');
-    if (sound(nth)) return nth;
-    // Cold: from each integer order in turn, keeping the lowest χ².
-    for (const st of cold) {
-      const alt = fitNthOrder(s, { ...base, previous: st });
-      if (alt.ok && (!nth.ok || alt.chiSquare < nth.chiSquare)) nth = alt;
-      if (sound(nth)) break;
-    }
-    return nth;
+    const p = this.previous.nth;
+    const warm = p && ((p[1] - p[2] < 0 ? -1 : 1) === base.direction) ? p : undefined;
+    return fitNthOrderSound(s, base, warm, [zero, first, second]);
   }
 
   private bestFit(fits: Record<ModelName, ModelFit>): FittedModel | null {
@@ -418,8 +395,10 @@ export class RunAnalyzer implements RunAnalyzerLike {
     };
     this.cached = buildReport(input);
     this.cached = { ...this.cached, warnings: this.runWarnings(this.cached.warnings) };
+    // Only a run that shows real progress paces the refits by its half-life (a flat run's
+    // noise fit can have any half-life at all).
     const d = this.cached.models[this.cached.drivingModel].halfLife_s;
-    this.readingsPerHalfLife = d !== null && interval_s > 0 ? d / interval_s : null;
+    this.readingsPerHalfLife = d !== null && interval_s > 0 && this.cached.fractionConverted !== null && d >= interval_s ? d / interval_s : null;
   }
 
   /** Slope of the first INITIAL_FRACTION of the change (the fit in use says where that ends). */
