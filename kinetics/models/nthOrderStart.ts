@@ -5,7 +5,7 @@
  * interval) has no gradient left in k or n, so every later refit stays there. Since the
  * n-th order family holds the first- and second-order curves (n = 1, n = 2), its χ² can
  * never rightly exceed theirs: a warm answer that does, or fails, is dropped and the fit
- * restarts cold from each integer order in turn (n = 0.05, 1.01, 2), keeping the lowest χ².
+ * restarts cold from each integer order in turn (within one unit of reduced χ²) (n = 0.05, 1.01, 2), keeping the lowest χ².
  */
 import type { FitSeries, FittedModel, ModelFit, ModelOptions } from './modelTypes';
 import { ORDER } from './modelTypes';
@@ -14,8 +14,11 @@ import { failedModelFit } from './rateLawStatistics';
 
 export function fitNthOrderSound(s: FitSeries, base: ModelOptions, warm: Float64Array | undefined, integer: ModelFit[]): ModelFit {
   const fitted = integer.filter((x): x is FittedModel => x.ok).sort((a, b) => a.aicc - b.aicc);
-  const nested = fitted.filter((x) => x.model === 'first' || x.model === 'second').map((x) => x.chiSquare);
-  const ceiling = nested.length ? Math.min(...nested) * (1 + 1e-6) : Number.POSITIVE_INFINITY;
+  const nested = fitted.filter((x) => x.model === 'first' || x.model === 'second');
+  // Allowed above the better nested fit: one unit of reduced χ² (a difference the noise
+  // makes anyway), so that a sound warm start is not refitted cold at every refit.
+  const best = nested.reduce<FittedModel | null>((b, x) => (!b || x.chiSquare < b.chiSquare ? x : b), null);
+  const ceiling = best ? best.chiSquare * (1 + 1 / best.dof) : Number.POSITIVE_INFINITY;
   const sound = (x: ModelFit): boolean => x.ok && x.chiSquare <= ceiling;
   let nth: ModelFit = warm ? fitNthOrder(s, { ...base, previous: warm }) : failedModelFit('nth', 'n-th order: no start yet');
   if (sound(nth)) return nth;
