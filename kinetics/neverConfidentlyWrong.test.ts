@@ -28,7 +28,7 @@ const covers = (ci: [number, number] | null, x: number): boolean => ci !== null 
 const kFor = (n: number): number => (n === 1 ? Math.LN2 / 198 : (2 ** (n - 1) - 1) / ((n - 1) * 198 * 0.645 ** (n - 1)));
 
 describe('stop advice while the order is undecided', () => {
-  it('a second-order run is not called far enough before 85% is truly converted (target 87.5%)', { timeout: 120_000 }, () => {
+  it('a second-order run is not called far enough before 85% is truly converted (target 87.5%)', { timeout: 300_000 }, () => {
     // before: seeds 3, 4, 5, 8, 9 stopped at 65–82% true conversion, first order driving with weight 0
     for (let seed = 1; seed <= 10; seed++) {
       const s = { ...DEMO_RUN, order: 'second' as const, k: kFor(2), seed, duration_s: 3000 };
@@ -38,7 +38,7 @@ describe('stop advice while the order is undecided', () => {
     }
   });
 
-  it('an order-1.5 run is called "order about 1.5" and stopped at the target, not at 75%', { timeout: 60_000 }, () => {
+  it('an order-1.5 run is called "order about 1.5" and stopped at the target, not at 75%', { timeout: 300_000 }, () => {
     // before: "undecided", stop at 75–76% true conversion in 20 of 20 seeds
     for (let seed = 1; seed <= 3; seed++) {
       const s = { ...DEMO_RUN, order: 1.5, k: kFor(1.5), seed, duration_s: 3000 };
@@ -73,15 +73,15 @@ describe('sparse sampling', () => {
 });
 
 describe('the end value A∞: bounds from the blank and the noise', () => {
-  it('a −0.02 AU baseline offset on A0 = 0.25 is found: k covered by its CI (before: 11–15% high, CI ±0.8%, "stop")', { timeout: 60_000 }, () => {
+  it('a −0.02 AU baseline offset on A0 = 0.25 is found: k covered by its CI (before: 11–15% high, CI ±0.8%, "stop")', { timeout: 300_000 }, () => {
     let covered = 0;
-    for (let seed = 1; seed <= 20; seed++) {
+    for (let seed = 1; seed <= 12; seed++) {
       const s = { ...DEMO_RUN, a0: 0.23, aInf: -0.02, seed, duration_s: 1500 };
       const { r } = run(s);
       if (covers(r.models.first.kCI95, s.k)) covered++;
       expect(r.models.first.aInf!).toBeCloseTo(-0.02, 2);
     }
-    expect(covered).toBeGreaterThanOrEqual(17); // binomial: 95% of 20, less 2σ
+    expect(covered).toBeGreaterThanOrEqual(10); // binomial: 95% of 12, less 2σ (before: 0 of 40)
   });
 
   it('an offset beyond what a blank can be off: A∞ rests on its bound, k\'s interval is widened and still covers k, no stop', () => {
