@@ -3,7 +3,6 @@ import { mean, sampleCovariance, variance } from 'simple-statistics';
 import { ReadingBins, MAX_BINS } from './readingBins';
 import type { FitSeries } from './models/modelTypes';
 import { seededRandom } from './random';
-import { allLinearViews } from './linearViews';
 
 const blank = (cap: number): FitSeries => ({
   tau_s: new Float64Array(cap), y: new Float64Array(cap), w: new Float64Array(cap), v: new Float64Array(cap), n: new Float64Array(cap),
@@ -47,17 +46,5 @@ describe('bins of sufficient statistics', () => {
     expect(ySum).toBeCloseTo(sum, 6);
     // negative control: the bins are in time order
     for (let j = 1; j < nb; j++) expect(s.tau_s[j]).toBeGreaterThan(s.tau_s[j - 1]);
-  });
-});
-
-describe('linearised views', () => {
-  it('are A, ln(A − A∞) and 1/(A − A∞), with gaps where A ≤ A∞', () => {
-    const t = Float64Array.from([0, 1, 2]);
-    const a = Float64Array.from([0.65, 0.3, 0.004]);
-    const [lin, ln, rec] = allLinearViews(t, a, 0.005);
-    expect(Array.from(lin.value)).toEqual([0.65, 0.3, 0.004]);
-    expect(ln.value[0]).toBeCloseTo(Math.log(0.645), 12);
-    expect(rec.value[1]).toBeCloseTo(1 / 0.295, 12);
-    expect(Number.isNaN(ln.value[2]) && Number.isNaN(rec.value[2])).toBe(true);
   });
 });

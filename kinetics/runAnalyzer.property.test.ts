@@ -5,7 +5,7 @@ import { DEMO_RUN, simulateRun, type SimulatedRunSpec } from './reactionModel';
 import { fitZeroOrder } from './models/zeroOrder';
 import { fitFirstOrder } from './models/firstOrder';
 import { fitSecondOrder } from './models/secondOrder';
-import { fitted, seriesOf } from '../test/fixtures/fitSeries';
+import { fitted, seriesOf } from '../test/fixtures/simulatedFitSeries';
 import { halfLife } from './halfLife';
 import { endValueBounds } from './endValueBounds';
 import type { IntegerOrder } from './analysisTypes';

@@ -8,12 +8,13 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { SerialPortMock } from 'serialport';
-import { readRunRecord } from '../acquisition/journalReader';
-import { defaultInstrumentSettings, type InstrumentSettings } from '../acquisition/simulatedInstrument';
-import { SimulatedSource } from '../acquisition/simulatedSource';
-import { SerialSource } from '../acquisition/serialSource';
-import { absorbanceMaximum } from '../acquisition/wavelengthChoice';
-import type { ReadingSource, SourceListener } from '../acquisition/sourceTypes';
+import { readRunRecord } from '../acquisition/record/journalReader';
+import { defaultInstrumentSettings, type InstrumentSettings } from '../acquisition/sources/simulatedInstrument';
+import { SimulatedSource } from '../acquisition/sources/simulatedSource';
+import { SerialSource } from '../acquisition/sources/serialSource';
+import { absorbanceMaximum } from '../kinetics/bandMaximum';
+import type { ReadingSource, SourceListener } from '../acquisition/sources/sourceTypes';
+import { emptyRejectCounts } from '../acquisition/sources/sourceStatus';
 import { DEMO_RUN } from '../kinetics/reactionModel';
 import { RunAnalyzer } from '../kinetics/runAnalyzer';
 import { ReplyValueSchemas, type BridgeEvent, type PeakOffer, type SourceChoice } from './bridge/contract';
@@ -166,7 +167,7 @@ describe('find the peak: sources that cannot', () => {
       async open() { for (const l of listeners) l({ type: 'status', status: { kind: 'connected', detail: 'silent' } }); },
       async command() { return { ok: true }; },
       async close() {},
-      rejectedCounts: () => ({ checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 }),
+      rejectedCounts: () => emptyRejectCounts(),
     };
     const svc = bench(() => silent, 300);
     const events: BridgeEvent[] = [];

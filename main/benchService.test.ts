@@ -2,8 +2,9 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { readRunRecord } from '../acquisition/journalReader';
-import type { ReadingSource, SourceEvent, SourceListener } from '../acquisition/sourceTypes';
+import { readRunRecord } from '../acquisition/record/journalReader';
+import type { ReadingSource, SourceEvent, SourceListener } from '../acquisition/sources/sourceTypes';
+import { emptyRejectCounts } from '../acquisition/sources/sourceStatus';
 import { DEMO_RUN, simulateRun } from '../kinetics/reactionModel';
 import type { AnalysisResult } from '../kinetics/analysisTypes';
 import { EventSchema, type BridgeEvent } from './bridge/contract';
@@ -58,7 +59,7 @@ function burstSource(points: number, perBurst = 50): ReadingSource & { commands:
       return { ok: true };
     },
     async close() { if (timer) clearInterval(timer); },
-    rejectedCounts: () => ({ checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 }),
+    rejectedCounts: () => emptyRejectCounts(),
   };
 }
 

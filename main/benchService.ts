@@ -12,7 +12,7 @@
  * the source sends (sourceEvents).
  */
 import { LIMITS, parseRequest, type AnyReply, type BenchState, type SampleDetails } from './bridge/contract';
-import type { BenchDeps } from './bench/benchPorts';
+import type { BenchDeps } from './bench/benchDependencies';
 import { BenchSession, type Listener } from './bench/benchSession';
 import { peakOffer } from './bench/peakOffer';
 import { Refusal, oneLine } from './bench/refusal';

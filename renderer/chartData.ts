@@ -8,7 +8,7 @@
 import type { AnalysisResultView } from '../main/bridge/contract';
 import { decimateMinMax, emptyDecimated, lowerBound, type DecimatedSeries } from './decimate';
 import { curveAbsorbance, curveParameters, viewBaseline, viewValue } from './fitCurves';
-import type { RunSeries } from './runSeries';
+import type { ReceivedReadings } from './receivedReadings';
 import type { ChartView } from './store';
 
 export interface ChartFrame {
@@ -37,12 +37,12 @@ export interface ChartFrame {
   baseline: number | null;
   /** Time after mixing of the first reading the fit saw (the origin of its time axis). */
   firstInWindow_s: number;
-  /** Index in the series of the first reading the analyzer was fed (its outlier indices count from there). */
+  /** Index in the readings of the first reading the analyzer was fed (its outlier indices count from there). */
   firstFedIndex: number;
 }
 
 export interface ChartFrameInput {
-  series: RunSeries;
+  readings: ReceivedReadings;
   /** Run-clock time of mixing; null: time zero is the first reading's clock zero. */
   timeZero_s: number | null;
   analysis: AnalysisResultView | null;
@@ -73,10 +73,10 @@ export class ChartFrameBuilder {
   private shiftedGeneration = -1;
 
   build(input: ChartFrameInput, out: ChartFrame = emptyFrame()): ChartFrame {
-    const { series, analysis, view } = input;
-    const n = series.count;
+    const { readings, analysis, view } = input;
+    const n = readings.count;
     const zero = input.timeZero_s ?? 0;
-    const t = this.timesAfterMixing(series, zero);
+    const t = this.timesAfterMixing(readings, zero);
     out.x.length = 0; out.inWindow.length = 0; out.outside.length = 0; out.residual.length = 0;
     out.hidden = 0; out.drawn = 0; out.represented = n; out.residualMax = 0;
     out.baseline = viewBaseline(analysis, view);
@@ -94,9 +94,9 @@ export class ChartFrameBuilder {
     out.windowFrom = input.fitWindow.from_s ?? Math.max(0, out.firstInWindow_s);
     out.windowTo = input.fitWindow.to_s ?? out.xMax;
     // A new fit alone does not move the readings: reuse their reduction then.
-    const key = `${series.generation}|${n}|${zero}|${input.columns}|${out.xMin}|${out.xMax}`;
+    const key = `${readings.generation}|${n}|${zero}|${input.columns}|${out.xMin}|${out.xMax}`;
     if (key !== this.reducedKey) {
-      decimateMinMax(t, series.absorbance, n, out.xMin, out.xMax, input.columns, this.reduced);
+      decimateMinMax(t, readings.absorbance, n, out.xMin, out.xMax, input.columns, this.reduced);
       this.reducedKey = key;
     }
     const r = this.reduced;
@@ -137,9 +137,9 @@ export class ChartFrameBuilder {
   }
 
   /** Times after mixing, kept between frames and extended only by the new readings. */
-  private timesAfterMixing(series: RunSeries, zero: number): Float64Array {
-    const n = series.count;
-    if (zero !== this.shiftedZero || n < this.shiftedCount || series.generation !== this.shiftedGeneration) this.shiftedCount = 0;
+  private timesAfterMixing(readings: ReceivedReadings, zero: number): Float64Array {
+    const n = readings.count;
+    if (zero !== this.shiftedZero || n < this.shiftedCount || readings.generation !== this.shiftedGeneration) this.shiftedCount = 0;
     if (this.shifted.length < n) {
       let cap = Math.max(1024, this.shifted.length);
       while (cap < n) cap *= 2;
@@ -147,10 +147,10 @@ export class ChartFrameBuilder {
       next.set(this.shifted.subarray(0, this.shiftedCount));
       this.shifted = next;
     }
-    for (let i = this.shiftedCount; i < n; i++) this.shifted[i] = series.time_s[i]! - zero;
+    for (let i = this.shiftedCount; i < n; i++) this.shifted[i] = readings.time_s[i]! - zero;
     this.shiftedCount = n;
     this.shiftedZero = zero;
-    this.shiftedGeneration = series.generation;
+    this.shiftedGeneration = readings.generation;
     return this.shifted;
   }
 }

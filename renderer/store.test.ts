@@ -14,8 +14,8 @@ describe('the screen store', () => {
     applyEvent(store, batch('r1', 100, 50), 50);
     const s = store.get();
     expect(s.pointCount).toBe(150);
-    expect(s.series.time_s[149]).toBe(149);
-    expect(s.series.absorbance[10]).toBeCloseTo(0.59, 12);
+    expect(s.readings.time_s[149]).toBe(149);
+    expect(s.readings.absorbance[10]).toBeCloseTo(0.59, 12);
   });
 
   it('adds only the new part of a batch sent again, and counts a hole it never received', () => {
@@ -23,10 +23,10 @@ describe('the screen store', () => {
     applyEvent(store, batch('r1', 0, 100), 0);
     applyEvent(store, batch('r1', 90, 20), 0); // 90..109: ten already held
     expect(store.get().pointCount).toBe(110);
-    expect(store.get().series.time_s[109]).toBe(109);
+    expect(store.get().readings.time_s[109]).toBe(109);
     applyEvent(store, batch('r1', 120, 5), 0); // 110..119 never came
     expect(store.get().pointCount).toBe(115);
-    expect(store.get().series.missed).toBe(10);
+    expect(store.get().readings.missed).toBe(10);
   });
 
   it('starts over for a new run and ignores a late result of the old one', () => {
@@ -67,7 +67,7 @@ describe('the screen store', () => {
     const store = createStore();
     // 50 readings of 1 s each per wall second: a 50× simulation.
     for (let k = 0; k < 10; k++) applyEvent(store, batch('r1', k * 5, 5), k * 100);
-    expect(store.get().series.runSecondsPerWallSecond()).toBeCloseTo(45 / 0.9, 6);
-    expect(store.get().series.readingsPerWallSecond()).toBeCloseTo(45 / 0.9, 6);
+    expect(store.get().readings.runSecondsPerWallSecond()).toBeCloseTo(45 / 0.9, 6);
+    expect(store.get().readings.readingsPerWallSecond()).toBeCloseTo(45 / 0.9, 6);
   });
 });

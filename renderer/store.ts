@@ -2,14 +2,14 @@
  * The screen's one store: every piece of state the run screen draws, changed only
  * through immer recipes so that each change makes a new state object and a panel
  * can tell by reference whether its part moved. The readings themselves live in a
- * RunSeries held by the state (a class instance, which immer neither drafts nor
+ * ReceivedReadings held by the state (a class instance, which immer neither drafts nor
  * freezes) and the state's `pointCount` moves when it grows.
  */
 import { produce, type Draft } from 'immer';
 import type {
-  AnalysisResultView, BenchState, PeakOffer, BridgeEvent, RejectReasonName, SourceStatusView,
+  AnalysisResultView, BenchState, PeakOffer, BridgeEvent, RejectReason, SourceStatus,
 } from '../main/bridge/contract';
-import { RunSeries } from './runSeries';
+import { ReceivedReadings } from './receivedReadings';
 
 export type ChartView = 'absorbance' | 'ln' | 'reciprocal';
 export type LinkState = 'connecting' | 'open' | 'lost';
@@ -29,15 +29,15 @@ export interface ScreenState {
   link: LinkState;
   bench: BenchState | null;
   runId: string | null;
-  series: RunSeries;
-  /** Readings held for the current run (series.count when last stored). */
+  readings: ReceivedReadings;
+  /** Readings held for the current run (readings.count when last stored). */
   pointCount: number;
   analysis: AnalysisResultView | null;
   /** Readings the analysis had seen when it was made. */
   analysisAtCount: number;
-  sourceStatus: SourceStatusView | null;
-  rejected: Partial<Record<RejectReasonName, number>>;
-  lastRejected: { reason: RejectReasonName; line: string } | null;
+  sourceStatus: SourceStatus | null;
+  rejected: Partial<Record<RejectReason, number>>;
+  lastRejected: { reason: RejectReason; line: string } | null;
   recordPath: string | null;
   recordOpen: boolean;
   view: ChartView;
@@ -54,7 +54,7 @@ export function initialState(): ScreenState {
     link: 'connecting',
     bench: null,
     runId: null,
-    series: new RunSeries(),
+    readings: new ReceivedReadings(),
     pointCount: 0,
     analysis: null,
     analysisAtCount: 0,
@@ -107,7 +107,7 @@ export function addMessage(draft: Draft<ScreenState>, level: ScreenMessage['leve
 /** A new run (or none): drop what the screen held of the last one. */
 function startRun(draft: Draft<ScreenState>, runId: string | null): void {
   draft.runId = runId;
-  (draft.series as RunSeries).clear();
+  (draft.readings as ReceivedReadings).clear();
   draft.pointCount = 0;
   draft.analysis = null;
   draft.analysisAtCount = 0;
@@ -129,8 +129,8 @@ export function applyEvent(store: Store, event: BridgeEvent, wall_ms: number): v
       }
       case 'readings': {
         if (event.runId !== d.runId) startRun(d, event.runId);
-        (d.series as RunSeries).append(event, wall_ms);
-        d.pointCount = (d.series as RunSeries).count;
+        (d.readings as ReceivedReadings).append(event, wall_ms);
+        d.pointCount = (d.readings as ReceivedReadings).count;
         break;
       }
       case 'analysis': {

@@ -9,11 +9,11 @@ import { mkdirSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
 import { describe, expect, it } from 'vitest';
-import { readRunRecord } from '../acquisition/journalReader';
-import { SimulatedSource } from '../acquisition/simulatedSource';
-import { defaultInstrumentSettings } from '../acquisition/simulatedInstrument';
+import { readRunRecord } from '../acquisition/record/journalReader';
+import { SimulatedSource } from '../acquisition/sources/simulatedSource';
+import { defaultInstrumentSettings } from '../acquisition/sources/simulatedInstrument';
 import { DEMO_RUN } from '../kinetics/reactionModel';
-import type { Reading } from '../acquisition/sourceTypes';
+import type { Reading } from '../acquisition/sources/sourceTypes';
 
 const root = join(import.meta.dirname, '..');
 const artifacts = join(root, 'test-artifacts');

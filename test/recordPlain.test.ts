@@ -9,9 +9,9 @@ import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { readRunRecord } from '../acquisition/journalReader';
-import { DelimitedReader } from '../acquisition/delimitedReader';
-import { parsePlainSpec, specOfIdentity } from '../acquisition/plainSpec';
+import { readRunRecord } from '../acquisition/record/journalReader';
+import { DelimitedReader } from '../acquisition/plain/delimitedReader';
+import { parsePlainSpec, specOfIdentity } from '../acquisition/plain/plainSpec';
 import { ChildGroup, exitOf, printed, socatPair } from './childProcesses';
 
 const root = join(import.meta.dirname, '..');

@@ -8,8 +8,8 @@ import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { analysisSeries, readRunRecord } from '../acquisition/journalReader';
-import { ReadingFlag } from '../acquisition/sourceTypes';
+import { analysisReadings, readRunRecord } from '../acquisition/record/journalReader';
+import { ReadingFlag } from '../acquisition/sources/sourceTypes';
 import { RunAnalyzer } from '../kinetics/runAnalyzer';
 import { ChildGroup, exitOf, socatPair } from './childProcesses';
 
@@ -75,7 +75,7 @@ describe('rateline record from a serial instrument', () => {
     // First order is memoryless, so k does not depend on when the device's clock started:
     // the demo k_obs = 3.5 × 10⁻³ s⁻¹ (DEMO.md) must lie inside the record's 95% CI.
     const a = new RunAnalyzer();
-    const s = analysisSeries(rec);
+    const s = analysisReadings(rec);
     for (let i = 0; i < s.time_s.length; i++) a.add(s.time_s[i]!, s.absorbance[i]!);
     const ci = a.flush().models.first.kCI95!;
     expect(ci[0]).toBeLessThan(3.5e-3);

@@ -11,8 +11,8 @@ import { mkdirSync, mkdtempSync, rmSync, writeFileSync, existsSync } from 'node:
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { SerialSource } from '../acquisition/serialSource';
-import type { Reading, SourceEvent } from '../acquisition/sourceTypes';
+import { SerialSource } from '../acquisition/sources/serialSource';
+import type { Reading, SourceEvent } from '../acquisition/sources/sourceTypes';
 import { RunAnalyzer } from '../kinetics/runAnalyzer';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { DEMO_RUN } from '../reactionModel';
-import { simulatedSeries } from '../../test/fixtures/fitSeries';
+import { simulatedSeries } from '../../test/fixtures/simulatedFitSeries';
 import { fitNthOrder } from './nthOrder';
 import { fitNthOrderSound } from './nthOrderStart';
 import { fitFirstOrder } from './firstOrder';

@@ -6,7 +6,7 @@ import { fitZeroOrder, zeroOrderLaw } from './zeroOrder';
 import { fitFirstOrder, firstOrderLaw } from './firstOrder';
 import { fitSecondOrder, secondOrderLaw } from './secondOrder';
 import { fitNthOrder, nthOrderLaw } from './nthOrder';
-import { fitted, seriesOf, simulatedSeries } from '../../test/fixtures/fitSeries';
+import { fitted, seriesOf, simulatedSeries } from '../../test/fixtures/simulatedFitSeries';
 import type { FittedModel, RateLaw } from './modelTypes';
 
 const base = { aInfMin: -0.03 };

@@ -7,13 +7,14 @@
 import {
   CONTRACT_VERSION, type BenchState, type BridgeEvent, type RejectCounts,
 } from '../bridge/contract';
-import type { BenchDeps } from './benchPorts';
+import type { BenchDeps } from './benchDependencies';
 import { Outbox } from './outbox';
 import { SpectrumWaiters } from './peakOffer';
 import { RecordWriter } from './recordWriter';
 import { Refusal, oneLine } from './refusal';
 import { RunData, analyzerOptions } from './runData';
-import { emptyRejectCounts, sourceLabel } from './runNaming';
+import { sourceLabel } from './runNaming';
+import { emptyRejectCounts } from '../../acquisition/sources/sourceStatus';
 import { SourceSlot } from './sourceSlot';
 
 export type Listener = (event: BridgeEvent) => void;

@@ -5,17 +5,17 @@
  */
 import { homedir } from 'node:os';
 import { join, resolve } from 'node:path';
-import { readRunRecord } from '../../acquisition/journalReader';
-import { ReplaySource, timelineFromRecord } from '../../acquisition/replaySource';
-import { SerialSource } from '../../acquisition/serialSource';
-import { defaultInstrumentSettings } from '../../acquisition/simulatedInstrument';
-import { SimulatedSource } from '../../acquisition/simulatedSource';
-import type { ReadingSource } from '../../acquisition/sourceTypes';
+import { readRunRecord } from '../../acquisition/record/journalReader';
+import { ReplaySource, timelineFromRecord } from '../../acquisition/sources/replaySource';
+import { SerialSource } from '../../acquisition/sources/serialSource';
+import { defaultInstrumentSettings } from '../../acquisition/sources/simulatedInstrument';
+import { SimulatedSource } from '../../acquisition/sources/simulatedSource';
+import type { ReadingSource } from '../../acquisition/sources/sourceTypes';
 import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import { DEMO_RUN } from '../../kinetics/reactionModel';
 import type { SourceChoice } from '../bridge/contract';
 import { BenchService } from '../benchService';
-import type { BenchDialogs, PortListing } from './benchPorts';
+import type { BenchDialogs, PortListing } from './benchDependencies';
 import { openJournalSink } from './journalSink';
 import { Refusal } from './refusal';
 

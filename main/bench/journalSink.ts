@@ -4,13 +4,13 @@
  * does the crash-safe writing (fsync policy, never overwriting).
  */
 import { performance } from 'node:perf_hooks';
-import { Journal } from '../../acquisition/journal';
+import { Journal } from '../../acquisition/record/journal';
 import {
   READING_COLUMNS, RUN_RECORD_FORMAT, RUN_RECORD_VERSION, emptyRunMetadata, isoWithLocalOffset,
   type RecordHeader, type RunMetadata,
-} from '../../acquisition/runRecordFormat';
+} from '../../acquisition/record/runRecordFormat';
 import type { SampleDetails } from '../bridge/contract';
-import type { RecordEvent, RecordOpening, RecordSink } from './benchPorts';
+import type { RecordEvent, RecordOpening, RecordSink } from './benchDependencies';
 import { ensureRunsFolder } from './runsFolder';
 import { PROGRAM } from '../programIdentity';
 import { dirname } from 'node:path';

@@ -3,8 +3,8 @@
  * for with a `scan` command, awaited here (with a time limit, and given up if the source
  * closes), turned into absorbance and searched for the band maximum.
  */
-import type { SpectrumFrame } from '../../acquisition/sourceTypes';
-import { bandMaximum } from '../../acquisition/wavelengthChoice';
+import type { SpectrumFrame } from '../../acquisition/sources/sourceTypes';
+import { bandMaximum } from '../../kinetics/bandMaximum';
 import { LIMITS, type PeakOffer } from '../bridge/contract';
 import { Refusal } from './refusal';
 

@@ -3,7 +3,7 @@
  * folder gone) is reported once, in one line, and the caller stops the run; what was
  * written before stays on disk and the reader recovers it.
  */
-import type { RecordEvent, RecordSink } from './benchPorts';
+import type { RecordEvent, RecordSink } from './benchDependencies';
 import { oneLine } from './refusal';
 
 export class RecordWriter {

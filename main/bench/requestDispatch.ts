@@ -4,11 +4,11 @@
  * turns it, or any other failure, into a one-line reply.
  */
 import { join } from 'node:path';
-import type { SpectrumFrame } from '../../acquisition/sourceTypes';
+import type { SpectrumFrame } from '../../acquisition/sources/sourceTypes';
 import type { BridgeRequest } from '../bridge/contract';
 import type { BenchSession } from './benchSession';
 import { Refusal } from './refusal';
-import { exportCsv, type ExportInput } from './runExport';
+import { exportCsv, type ExportInput } from '../../acquisition/exports/runCsvExport';
 import { listRecordFiles, resolveRecordName } from './runsFolder';
 import { closeSource, connect, setSource, startRun, stopRun } from './runLifecycle';
 
@@ -112,6 +112,6 @@ function exportInput(s: BenchSession): ExportInput {
   return {
     runId: s.state.runId ?? 'run', demo: s.state.demo, sourceLabel: s.state.sourceLabel,
     details: s.state.sampleDetails, wavelength_nm: s.state.wavelength_nm, timeZero_s: s.run.timeZero_s ?? 0,
-    series: s.run.series, result: s.run.resultOrNull(),
+    readings: s.run.readings, result: s.run.resultOrNull(),
   };
 }

@@ -7,7 +7,7 @@
  */
 import type { AnalysisResult, AnalyzerOptions, RunAnalyzerLike } from '../../kinetics/analysisTypes';
 import type { BenchState, ReadingsBatch } from '../bridge/contract';
-import { RunSeries } from './runSeries';
+import { RunReadings } from './runReadings';
 
 /** Host arrival times kept for the reading rate (a few seconds at the usual rates). */
 const RATE_WINDOW = 64;
@@ -20,7 +20,7 @@ export function analyzerOptions(o: BenchState['analysisOptions'], w: BenchState[
 }
 
 export class RunData {
-  readonly series = new RunSeries();
+  readonly readings = new RunReadings();
   /** Device time at run-clock 0, once known. */
   origin_s: number | null = null;
   /** Mixing on the run clock; null means the first reading. */
@@ -34,7 +34,7 @@ export class RunData {
   ) {}
 
   get count(): number {
-    return this.series.length;
+    return this.readings.length;
   }
 
   get analysing(): boolean {
@@ -42,7 +42,7 @@ export class RunData {
   }
 
   reset(origin_s: number | null, timeZero_s: number | null): void {
-    this.series.clear();
+    this.readings.clear();
     this.origin_s = origin_s;
     this.timeZero_s = timeZero_s;
     this.arrivals_ms = [];
@@ -53,7 +53,7 @@ export class RunData {
   place(deviceTime_s: number, absorbance: number, flags: number): number {
     if (this.origin_s === null) this.origin_s = deviceTime_s;
     const t = deviceTime_s - this.origin_s;
-    this.series.push(t, absorbance, flags);
+    this.readings.push(t, absorbance, flags);
     this.arrivals_ms.push(this.now_ms());
     if (this.arrivals_ms.length > RATE_WINDOW) this.arrivals_ms.splice(0, RATE_WINDOW / 2);
     return t;
@@ -66,7 +66,7 @@ export class RunData {
 
   rebuild(options: AnalyzerOptions): void {
     this.analyzer = this.createAnalyzer(options);
-    for (let i = 0; i < this.series.length; i++) this.feed(this.series.time_s[i]!, this.series.absorbance[i]!);
+    for (let i = 0; i < this.readings.length; i++) this.feed(this.readings.time_s[i]!, this.readings.absorbance[i]!);
   }
 
   /** The analyzer's result (it may throw: the caller reports it). */
@@ -90,14 +90,14 @@ export class RunData {
    * ahead, so a mark or a time zero lands between the readings it was pressed between.
    */
   runTimeNow(): number {
-    const n = this.series.length;
+    const n = this.readings.length;
     if (n === 0) return 0;
     const h = this.arrivals_ms;
-    const lastTime_s = this.series.time_s[n - 1]!;
+    const lastTime_s = this.readings.time_s[n - 1]!;
     const last_ms = h[h.length - 1] ?? this.now_ms();
     const span = Math.min(n - 1, h.length - 1);
     if (span < 1) return lastTime_s + (this.now_ms() - last_ms) / 1000;
-    const data_s = lastTime_s - this.series.time_s[n - 1 - span]!;
+    const data_s = lastTime_s - this.readings.time_s[n - 1 - span]!;
     const host_s = (last_ms - h[h.length - 1 - span]!) / 1000;
     const pace = host_s > 0 ? data_s / host_s : 1;
     const ahead_s = ((this.now_ms() - last_ms) / 1000) * pace;
@@ -118,7 +118,7 @@ export class RunData {
   }
 
   batch(runId: string, from: number, to: number): ReadingsBatch {
-    const s = this.series;
+    const s = this.readings;
     return {
       type: 'readings', runId, fromIndex: from,
       time_s: Array.from(s.time_s.subarray(from, to)),

@@ -1,5 +1,5 @@
 /** Names for runs, record files and sources, as the screen and the runs folder show them. */
-import type { RejectCounts, SourceChoice } from '../bridge/contract';
+import type { SourceChoice } from '../bridge/contract';
 
 const pad = (n: number): string => String(n).padStart(2, '0');
 
@@ -21,8 +21,4 @@ export function sourceLabel(choice: SourceChoice): string {
     case 'serial': return `serial instrument on ${choice.path} at ${choice.baud} baud`;
     case 'replay': return `recorded run ${choice.file} played back${choice.speed === 'max' ? ' as fast as possible' : choice.speed ? ` at ${choice.speed}×` : ''}`;
   }
-}
-
-export function emptyRejectCounts(): RejectCounts {
-  return { checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 };
 }

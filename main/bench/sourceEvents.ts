@@ -4,11 +4,11 @@
  * and into the record. A replayed record's own time zero and marks carry over into the
  * new record.
  */
-import type { RunEvent } from '../../acquisition/runRecordFormat';
-import type { Reading, SourceEvent } from '../../acquisition/sourceTypes';
-import { bandMaximum } from '../../acquisition/wavelengthChoice';
+import type { RunEvent } from '../../acquisition/record/runRecordFormat';
+import type { Reading, SourceEvent } from '../../acquisition/sources/sourceTypes';
+import { bandMaximum } from '../../kinetics/bandMaximum';
 import type { BenchSession } from './benchSession';
-import { emptyRejectCounts } from './runNaming';
+import { emptyRejectCounts } from '../../acquisition/sources/sourceStatus';
 
 export function onSourceEvent(s: BenchSession, e: SourceEvent): void {
   switch (e.type) {

@@ -3,10 +3,10 @@
  * attached (a replay's recorded events too), closed with them detached, and asked for
  * commands with a refusal the user can read when there is none or it says no.
  */
-import type { RunEvent } from '../../acquisition/runRecordFormat';
-import type { ReadingSource, SourceCommand, SourceEvent } from '../../acquisition/sourceTypes';
+import type { RunEvent } from '../../acquisition/record/runRecordFormat';
+import type { ReadingSource, SourceCommand, SourceEvent } from '../../acquisition/sources/sourceTypes';
 import { Refusal } from './refusal';
-import { listenToSource } from '../../acquisition/replaySource';
+import { listenToSource } from '../../acquisition/sources/replaySource';
 
 export class SourceSlot {
   private source: ReadingSource | null = null;

@@ -1,11 +1,9 @@
 /**
- * The screen's end of the bridge, for either host. Pure browser code (no Node, no
- * Electron): in Electron the preload has put the bridge on `window.rateline`; in a
- * browser served by `rateline serve` it speaks to the web host over a WebSocket, with
- * the per-launch token taken from the page's own address.
+ * The screen's end of the bridge over the web host's WebSocket (`rateline serve`). Pure
+ * browser code (no Node, no Electron). In Electron the preload puts the bridge on
+ * `window.rateline` instead; renderer/main.ts chooses between the two.
  */
 import {
-  SOCKET_PATH, TOKEN_PARAM,
   type AnyReply, type BridgeEvent, type RatelineBridge, type Reply, type RequestOf, type RequestType, type ServerMessage,
 } from './contract';
 
@@ -77,15 +75,4 @@ export function socketBridge(url: string, makeSocket: (url: string) => SocketLik
       socket.close();
     },
   };
-}
-
-/**
- * The bridge for this page: Electron's preload if present, else the web host's
- * socket on the page's own origin with the token from `?token=`.
- */
-export function connectBridge(win: { location: Location; rateline?: RatelineBridge } = window as never): RatelineBridge {
-  if (win.rateline) return win.rateline;
-  const token = new URLSearchParams(win.location.search).get(TOKEN_PARAM) ?? '';
-  const scheme = win.location.protocol === 'https:' ? 'wss:' : 'ws:';
-  return socketBridge(`${scheme}//${win.location.host}${SOCKET_PATH}?${TOKEN_PARAM}=${encodeURIComponent(token)}`);
 }

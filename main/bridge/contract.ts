@@ -1,7 +1,8 @@
 /**
  * The one typed contract between the screen and the bench service. Both hosts carry
  * exactly this: the Electron preload over IPC, and the loopback web host over a
- * WebSocket. Pure (zod only), so the renderer imports it as it is.
+ * WebSocket. Pure (zod only, with the zod declarations of acquisition/sources/sourceStatus.ts),
+ * so the renderer imports it as it is.
  *
  * The screen is never trusted: every request is parsed with `parseRequest` on the
  * service side before anything acts on it, and every size is capped here, once.
@@ -12,6 +13,7 @@
  */
 import { z } from 'zod';
 import { AnalysisResultSchema } from '../../kinetics/analysisSchema';
+import { RejectReasonSchema, sourceStatusSchema } from '../../acquisition/sources/sourceStatus';
 
 export const CONTRACT_VERSION = 1;
 
@@ -75,28 +77,11 @@ export const SourceChoiceSchema = z.discriminatedUnion('kind', [
 ]);
 export type SourceChoice = z.infer<typeof SourceChoiceSchema>;
 
-export const RejectReasonSchema = z.enum([
-  'checksum', 'malformed', 'overlong', 'nonFinite', 'timeBackwards', 'unitChange', 'binaryNoise', 'unknownType',
-]);
-export type RejectReasonName = z.infer<typeof RejectReasonSchema>;
+// Reject reasons and source status are declared once, in acquisition/sources/sourceStatus.ts;
+// here they get the contract's size caps.
+export { RejectReasonSchema, type RejectCounts, type RejectReason, type SourceStatus } from '../../acquisition/sources/sourceStatus';
 export const RejectCountsSchema = z.record(RejectReasonSchema, nonNegInt);
-export type RejectCounts = z.infer<typeof RejectCountsSchema>;
-
-const IdentitySchema = z.object({
-  maker: shortText, model: shortText, serial: shortText, firmware: shortText,
-  sends: z.enum(['absorbance', 'counts']),
-});
-
-export const SourceStatusSchema = z.discriminatedUnion('kind', [
-  z.object({ kind: z.literal('connecting'), detail: shortText }),
-  z.object({ kind: z.literal('connected'), detail: shortText, identity: IdentitySchema.optional() }),
-  z.object({ kind: z.literal('disconnected'), detail: shortText }),
-  z.object({ kind: z.literal('reconnecting'), attempt: nonNegInt, delay_ms: finite, detail: shortText }),
-  z.object({ kind: z.literal('stale'), sinceLastReading_ms: finite, detail: shortText }),
-  z.object({ kind: z.literal('ended'), detail: shortText }),
-  z.object({ kind: z.literal('error'), message: z.string().max(LIMITS.maxNote) }),
-]);
-export type SourceStatusView = z.infer<typeof SourceStatusSchema>;
+export const SourceStatusSchema = sourceStatusSchema(shortText, z.string().max(LIMITS.maxNote));
 
 // ---------------------------------------------------------------- run details
 
@@ -208,7 +193,7 @@ export const ReadingsBatchSchema = z.object({
   fromIndex: nonNegInt,
   time_s: z.array(finite).max(LIMITS.maxBatchPoints),
   absorbance: z.array(finite).max(LIMITS.maxBatchPoints),
-  /** Bit set per reading (see ReadingFlag in acquisition/sourceTypes.ts). */
+  /** Bit set per reading (see ReadingFlag in acquisition/sources/sourceTypes.ts). */
   flags: z.array(nonNegInt).max(LIMITS.maxBatchPoints),
 }).refine((b) => b.time_s.length === b.absorbance.length && b.flags.length === b.time_s.length, {
   message: 'readings batch arrays must have one length',

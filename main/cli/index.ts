@@ -2,9 +2,9 @@
  * The `rateline` command: one entry, subcommands loaded on demand so that
  * `rateline analyze` never loads the serial port or the web host.
  */
-import { EXIT_BAD_INPUT, EXIT_FAULT, InputError, type CommandModule } from './cliErrors';
-import { RunFileError } from '../../acquisition/runFile';
-import { RunRecordError } from '../../acquisition/journalReader';
+import { EXIT_BAD_INPUT, EXIT_FAULT, InputError, type CommandModule } from './common/cliErrors';
+import { RunFileError } from '../../acquisition/files/runFile';
+import { RunRecordError } from '../../acquisition/record/journalReader';
 
 interface CommandEntry {
   summary: string;
@@ -12,15 +12,15 @@ interface CommandEntry {
 }
 
 const commands: Record<string, CommandEntry> = {
-  analyze: { summary: 'fit a recorded run (CSV or run record) and print the result', load: () => import('./analyzeCommand') },
-  simulate: { summary: 'write a synthetic run as CSV from the physical model', load: () => import('./simulateCommand') },
-  calibrate: { summary: 'fit the Beer–Lambert line to standards; read unknowns back', load: () => import('./calibrateCommand') },
-  combine: { summary: 'combine runs into the rate law (by concentration) or Ea (by temperature)', load: () => import('./combineCommand') },
-  emulate: { summary: 'play an instrument on a serial port, speaking the line protocol', load: () => import('./emulateCommand') },
-  record: { summary: 'record a run from a serial instrument, headless', load: () => import('./recordCommand') },
-  export: { summary: 'write a recorded run as JCAMP-DX or annotated CSV', load: () => import('./exportCommand') },
-  serve: { summary: 'serve the screens on a loopback web host (127.0.0.1, with a token)', load: () => import('./serveCommand') },
-  start: { summary: 'start the desktop app (falls back to the loopback host without Electron)', load: () => import('./startCommand') },
+  analyze: { summary: 'fit a recorded run (CSV or run record) and print the result', load: () => import('./commands/analyze') },
+  simulate: { summary: 'write a synthetic run as CSV from the physical model', load: () => import('./commands/simulate') },
+  calibrate: { summary: 'fit the Beer–Lambert line to standards; read unknowns back', load: () => import('./commands/calibrate') },
+  combine: { summary: 'combine runs into the rate law (by concentration) or Ea (by temperature)', load: () => import('./commands/combine') },
+  emulate: { summary: 'play an instrument on a serial port, speaking the line protocol', load: () => import('./commands/emulate') },
+  record: { summary: 'record a run from a serial instrument, headless', load: () => import('./commands/record') },
+  export: { summary: 'write a recorded run as JCAMP-DX or annotated CSV', load: () => import('./commands/export') },
+  serve: { summary: 'serve the screens on a loopback web host (127.0.0.1, with a token)', load: () => import('./commands/serve') },
+  start: { summary: 'start the desktop app (falls back to the loopback host without Electron)', load: () => import('./commands/start') },
 };
 
 function usage(): string {

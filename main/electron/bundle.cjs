@@ -1,14 +1,15 @@
 // Bundles the Electron main process and the preload with esbuild (installed with tsx),
 // so Electron loads plain CommonJS: the sandboxed preload cannot load TypeScript or
 // modules from disk, and one main bundle starts faster than compiling TS on each launch.
-// Used by main/electronEntry.cjs (before Electron loads the app) and by `rateline start`.
+// Used by main/electronEntry.cjs (before Electron loads the app), by `rateline start`,
+// and by the build step the package is made from (build/buildApp.ts, `npm run build`):
+// the same bundles in development and in a package.
 'use strict';
 const path = require('node:path');
 
-/** Builds dist/electron/{main,preload}.cjs from the sources; returns their paths. */
-function bundleShell(root) {
+/** Builds dist/electron/{main,preload}.cjs (or into `outDir`) from the sources; returns their paths. */
+function bundleShell(root, outDir = path.join(root, 'dist', 'electron')) {
   const esbuild = require('esbuild');
-  const outDir = path.join(root, 'dist', 'electron');
   const common = {
     bundle: true, platform: 'node', format: 'cjs', target: 'node20', logLevel: 'error',
     sourcemap: 'inline', absWorkingDir: root,

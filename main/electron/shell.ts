@@ -9,7 +9,7 @@
  */
 import { join } from 'node:path';
 import { CHANNELS, type BridgeEvent, type BridgeRequest } from '../bridge/contract';
-import type { BenchDialogs } from '../bench/benchPorts';
+import type { BenchDialogs } from '../bench/benchDependencies';
 import type { BridgeService } from '../webHost';
 import { appProtocolHandler, type FileReader } from './appProtocol';
 import type { BrowserWindowLike, ElectronApi, SessionLike, WebContentsLike } from './electronApi';

@@ -6,8 +6,12 @@
 import { mkdir, readdir, rm, stat } from 'node:fs/promises';
 import { join } from 'node:path';
 
-/** Folders whose files go into the screens' bundle (the renderer imports the contract and kinetics helpers). */
+/**
+ * Folders and files that go into the screens' bundle: the renderer imports the contract
+ * and kinetics helpers, and the contract the reject reasons and source status.
+ */
 const SOURCE_DIRS = ['renderer', 'main/bridge', 'kinetics'];
+const SOURCE_FILES = ['acquisition/sources/sourceStatus.ts'];
 const STALE_LOCK_MS = 5 * 60_000;
 
 export function rendererOutDir(root: string): string {
@@ -40,6 +44,7 @@ export async function rendererBuildReason(root: string): Promise<string | null> 
   }
   let newest = 0;
   for (const d of SOURCE_DIRS) newest = Math.max(newest, await newestSource_ms(join(root, d)));
+  for (const f of SOURCE_FILES) newest = Math.max(newest, await stat(join(root, f)).then((s) => s.mtimeMs, () => 0));
   return newest > built_ms ? 'sources changed since the last build' : null;
 }
 

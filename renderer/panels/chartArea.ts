@@ -95,7 +95,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
       for (const [v, b] of tabButtons) b.setAttribute('aria-selected', String(v === state.view));
       setText(caption, VIEW_CAPTION[state.view]);
       const frame = chart.draw({
-        series: state.series,
+        readings: state.readings,
         timeZero_s: state.bench?.timeZero_s ?? null,
         analysis: state.analysis,
         fitWindow: state.bench?.fitWindow ?? { from_s: null, to_s: null },

@@ -65,9 +65,9 @@ export function createProgressPanel(actions: BenchActions): ProgressPanel {
       setText(converted, a?.fractionConverted != null
         ? `${formatPercent(a.fractionConverted)} converted (${a.drivingModel} order), target ${formatPercent(1 - Math.pow(2, -goal), 1)}`
         : 'Fraction converted: not known yet.');
-      const now = state.series.lastTime_s();
+      const now = state.readings.lastTime_s();
       const zero = state.bench?.timeZero_s ?? 0;
-      setText(finish, finishWords(a, now === null ? null : now - zero, state.series.runSecondsPerWallSecond()));
+      setText(finish, finishWords(a, now === null ? null : now - zero, state.readings.runSecondsPerWallSecond()));
       const w = adviceWords(a, running);
       setText(headline, w.headline);
       setText(detail, w.detail);

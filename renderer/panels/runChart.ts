@@ -9,12 +9,12 @@ import 'uplot/dist/uPlot.min.css';
 import type { AnalysisResultView } from '../../main/bridge/contract';
 import { ChartFrameBuilder, emptyFrame, type ChartFrame } from '../chartData';
 import { CURVE_MODELS, curveAbsorbance, curveParameters, viewValue, type CurveModel } from '../fitCurves';
-import type { RunSeries } from '../runSeries';
+import type { ReceivedReadings } from '../receivedReadings';
 import type { ChartView, RunMark } from '../store';
 import { PALETTE } from './palette';
 
 export interface ChartInput {
-  series: RunSeries;
+  readings: ReceivedReadings;
   timeZero_s: number | null;
   analysis: AnalysisResultView | null;
   fitWindow: { from_s: number | null; to_s: number | null };
@@ -223,10 +223,10 @@ function drawOutliers(u: uPlot, input: ChartInput, frame: ChartFrame, px: number
   for (const fed of a.outliers) {
     // The analyzer counts from the first reading at or after time zero.
     const i = fed + frame.firstFedIndex;
-    if (i >= input.series.count) continue;
-    const v = viewValue(input.view, input.series.absorbance[i]!, frame.baseline, input.analysis?.direction === 'rising');
+    if (i >= input.readings.count) continue;
+    const v = viewValue(input.view, input.readings.absorbance[i]!, frame.baseline, input.analysis?.direction === 'rising');
     if (v === null) continue;
-    const x = u.valToPos(input.series.time_s[i]! - zero, 'x', true);
+    const x = u.valToPos(input.readings.time_s[i]! - zero, 'x', true);
     const y = u.valToPos(v, 'y', true);
     ctx.beginPath();
     ctx.arc(x, y, 7 * px, 0, 2 * Math.PI);

@@ -4,13 +4,13 @@
  * the blank, and how the line is doing: connection status, reading rate and the
  * lines the parser turned away, counted by reason.
  */
-import { BAUD_RATES, type RejectReasonName, type SourceChoice } from '../../main/bridge/contract';
+import { BAUD_RATES, type RejectReason, type SourceChoice } from '../../main/bridge/contract';
 import type { BenchActions } from '../benchActions';
 import { h, setHidden, setText } from '../elements';
 import { addMessage, type ScreenState, type Store } from '../store';
 import { createPeakPanel } from './peakPanel';
 
-const REJECT_WORDS: Record<RejectReasonName, string> = {
+const REJECT_WORDS: Record<RejectReason, string> = {
   checksum: 'bad checksum', malformed: 'malformed', overlong: 'too long', nonFinite: 'not a number',
   timeBackwards: 'time went backwards', unitChange: 'unit changed', binaryNoise: 'line noise', unknownType: 'unknown kind',
 };
@@ -130,7 +130,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
       setText(status, statusWords(state));
       // Counted on the screen from the batches as they arrive, so it is live; the service's
       // figure rides on its state messages, which come only when something changes.
-      const r = b?.phase === 'running' ? state.series.readingsPerWallSecond() ?? b.readingRate_perSecond : null;
+      const r = b?.phase === 'running' ? state.readings.readingsPerWallSecond() ?? b.readingRate_perSecond : null;
       setText(rate, `Reading rate: ${r == null ? '—' : `${r.toFixed(r < 10 ? 2 : 0)} per second`}`);
       const counts = state.sourceStatus?.kind === 'connected' && state.sourceStatus.identity?.sends === 'counts';
       setText(blankHint, counts && !b?.blankTaken ? 'This instrument sends raw detector counts: fill the cuvette with the solvent and take a blank before starting.' : '');
@@ -139,7 +139,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
       const running = b?.phase === 'running';
       use.disabled = running || state.busy;
       disconnect.disabled = running || !b || b.phase === 'idle';
-      const entries = Object.entries(state.rejected).filter(([, n]) => (n ?? 0) > 0) as [RejectReasonName, number][];
+      const entries = Object.entries(state.rejected).filter(([, n]) => (n ?? 0) > 0) as [RejectReason, number][];
       const text = entries.map(([k, n]) => `${REJECT_WORDS[k]}: ${n}`).join('|');
       if (rejectList.dataset.text !== text) {
         rejectList.dataset.text = text;

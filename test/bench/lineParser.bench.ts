@@ -11,8 +11,8 @@
  * Run: node --expose-gc --import tsx test/bench/lineParser.bench.ts
  */
 import { performance } from 'node:perf_hooks';
-import { LineParser } from '../../acquisition/lineProtocol';
-import { formatAbsorbance, formatCounts, formatSpectrum, formatTemperature } from '../../acquisition/lineFormat';
+import { LineParser } from '../../acquisition/protocol/lineProtocol';
+import { formatAbsorbance, formatCounts, formatSpectrum, formatTemperature } from '../../acquisition/protocol/lineFormat';
 import { seededRandom } from '../../kinetics/random';
 
 const TARGET_LINES_PER_S = 200_000;

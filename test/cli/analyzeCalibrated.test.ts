@@ -7,8 +7,8 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { linearRegression, sum } from 'simple-statistics';
-import { calibrationFileSchema } from '../../acquisition/calibrationFile';
-import { calibrationSchema } from '../../acquisition/runRecordFormat';
+import { calibrationFileSchema } from '../../acquisition/files/calibrationFile';
+import { calibrationSchema } from '../../acquisition/record/runRecordFormat';
 import { ratelineIn, ROOT } from './ratelineCli';
 
 const root = ROOT;

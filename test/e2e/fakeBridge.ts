@@ -5,6 +5,7 @@
  * own work. The end-to-end tests use the real `rateline serve`, never this.
  */
 import type { AnalysisResultView, BenchState, BridgeEvent } from '../../main/bridge/contract';
+import { emptyRejectCounts } from '../../acquisition/sources/sourceStatus';
 
 export interface FakeHandle {
   emit(event: BridgeEvent): void;
@@ -27,7 +28,7 @@ export function benchState(pointCount: number): BenchState {
     fitWindow: { from_s: null, to_s: null },
     analysisOptions: { targetHalfLives: 3, precision: 0.05, weighted: true, robust: true },
     recordPath: null, dataDir: '/tmp', readingRate_perSecond: 1,
-    rejected: { checksum: 0, malformed: 0, overlong: 0, nonFinite: 0, timeBackwards: 0, unitChange: 0, binaryNoise: 0, unknownType: 0 },
+    rejected: emptyRejectCounts(),
   };
 }
 

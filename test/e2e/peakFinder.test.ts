@@ -7,7 +7,7 @@
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { defaultInstrumentSettings } from '../../acquisition/simulatedInstrument';
+import { defaultInstrumentSettings } from '../../acquisition/sources/simulatedInstrument';
 import { DEMO_RUN } from '../../kinetics/reactionModel';
 import { ROOT } from './serveProcess';
 import { useScreenSession } from './screenSession';

@@ -1,0 +1,61 @@
+/** What the recorder is given, what it reports while it runs, and what it says when it stops. */
+import type { AnalysisResult, RunAnalyzerLike } from '../../kinetics/analysisTypes';
+import type { Journal } from './journal';
+import type { DeviceIdentity, RejectCounts, ReadingSource, SourceStatus } from '../sources/sourceTypes';
+
+export type StopReason = 'user' | 'signal' | 'limit' | 'advice' | 'sourceEnded' | 'error';
+
+/**
+ * Where time zero is: at the first reading (the headless default: the device is started
+ * once the reagents are mixed), at a given device time (an instrument whose clock starts
+ * at mixing, like the simulator), or when `markMixed()` is called.
+ */
+export type TimeZero = 'firstReading' | { deviceTime_s: number } | 'manual';
+
+export interface RecorderOptions {
+  source: ReadingSource;
+  journal: Journal;
+  analyzer: RunAnalyzerLike;
+  timeZero?: TimeZero;
+  /** The wavelength written in the record's header, so that a device reading at another is recorded as a change. */
+  wavelength_nm?: number | null;
+  /** The device identity written in the header, if known, so that only a different one is recorded as a change. */
+  identity?: DeviceIdentity | null;
+  /** Stop after this many seconds of run time (from time zero). */
+  maxRunSeconds?: number;
+  /** Stop when the analyzer's advice says the run has gone far enough and settled. */
+  untilAdvice?: boolean;
+  /** How long to wait for a counts device's blank before giving up. Default 60 s. */
+  blankTimeout_ms?: number;
+  now_ms?: () => number;
+  wallClock?: () => Date;
+}
+
+export interface RecorderProgress {
+  phase: 'opening' | 'blank' | 'waitingForTimeZero' | 'recording' | 'stopped';
+  /** Readings handed to the journal, and the device time of the last. */
+  journalled: number;
+  lastDeviceTime_s: number | null;
+  /** Readings known to be on disk. */
+  synced: number;
+  /** Readings given to the analyzer (from time zero on) and the run time of the last. */
+  analysed: number;
+  runTime_s: number | null;
+  status: SourceStatus | null;
+  identity: DeviceIdentity | null;
+  rejected: RejectCounts;
+  gaps: number;
+  warnings: number;
+  /** The latest warning if it came in the last 30 s (host time), else null. */
+  lastWarning: string | null;
+}
+
+export interface RecorderOutcome {
+  reason: StopReason;
+  detail: string;
+  /** Set when the record could not be written to the end: the one-line message. */
+  error: string | null;
+  readings: number;
+  /** The analysis at the stop, or null if the analyzer itself failed (the record is unaffected). */
+  result: AnalysisResult | null;
+}

@@ -1,0 +1,149 @@
+/**
+ * `rateline calibrate FILE [--path-cm L] [--intercept] [--format text|json] [--predict A ...]`:
+ * the Beer–Lambert line from a CSV of standards (kinetics/calibration.ts), with the
+ * slope and ε and their 95% intervals, the residual of every standard, R², the
+ * linear-range warnings, and unknowns read back with their standard errors.
+ * Concentrations come in the unit of the file's column (M, mM or µM) and results that
+ * are concentrations are given in that unit; ε is always M⁻¹ cm⁻¹. `--save CAL.json` keeps
+ * the line as a calibration file (acquisition/files/calibrationFile.ts). Exit 0 done, 2 bad input.
+ */
+import { existsSync, statSync } from 'node:fs';
+import { InputError } from '../common/cliErrors';
+import { parseCommandArguments } from '../common/arguments';
+import { CalibrationFileError, calibrationFile, saveCalibrationFile } from '../../../acquisition/files/calibrationFile';
+import { isoWithLocalOffset } from '../../../acquisition/record/runRecordFormat';
+import { predictConcentration, type Calibration } from '../../../kinetics/calibration';
+import { fitStandardsFile } from '../common/standardsFile';
+import { formatInterval, formatWithUncertainty } from '../../../kinetics/fit/report';
+
+const HELP = `usage: rateline calibrate FILE [--path-cm L] [--intercept] [--format text|json] [--predict A ...] [--save CAL.json]
+
+  FILE           a CSV of standards: a header naming one concentration column
+                 (concentration_M, concentration_mM or concentration_uM) and absorbance,
+                 then one reading a line (replicates of a standard on lines of their own);
+                 comma or semicolon separated, a decimal comma accepted with semicolons,
+                 lines starting with # are comments
+  --path-cm L    cuvette path length in cm (default 1.00); ε = slope / L
+  --intercept    fit a blank offset a (A = ε L c + a); without it the line goes through
+                 the origin (A = ε L c), as for standards read against their blank
+  --format       text (default) or json
+  --predict A …  absorbances of unknowns (the values after --predict, up to the next
+                 option; put FILE before it): each is read back as a concentration, in
+                 the unit of the file's concentration column, with its standard error
+  --save CAL.json  keep the line in a calibration file (never overwritten) for
+                 rateline analyze RUN --calibration CAL.json and rateline record
+                 --calibration CAL.json; concentrations in the unit of the file's column`;
+
+export async function run(argv: string[]): Promise<number> {
+  const cmd = 'calibrate';
+  const args = parseCommandArguments(cmd, argv, { 'path-cm': 'value', intercept: 'flag', format: 'value', predict: 'values', save: 'value' });
+  if (args.help) { console.log(HELP); return 0; }
+  if (args.positionals.length !== 1) {
+    throw new InputError(`rateline calibrate: ${args.positionals.length === 0 ? 'no file given' : `give one file only (got ${args.positionals.join(', ')})`}; usage: rateline calibrate FILE [--intercept] [--predict A ...].`);
+  }
+  const file = args.positionals[0]!;
+  const format = args.choice('format', ['text', 'json'], 'text');
+  const pathLength_cm = args.number('path-cm', (x) => x > 0 && x <= 100, 'a path length in cm (e.g. 1.00)') ?? 1;
+  const predict = args.numbers('predict', (x) => x > -1 && x < 10, 'an absorbance (put FILE before --predict)');
+  const hasIntercept = args.flag('intercept');
+
+  const save = args.value('save');
+  if (save !== undefined && existsSync(save)) {
+    throw new InputError(`rateline calibrate: ${save} is already ${statSync(save).isDirectory() ? 'a folder' : 'a file'}, and a calibration file is never overwritten; choose another --save name.`);
+  }
+  const { cal, unit, rows, standards } = await fitStandardsFile(file, { pathLength_cm, intercept: hasIntercept });
+  const f = unit.toMolar; // slope per file unit = slope per M × (M per file unit)
+  const residuals = rows.map((r, i) => {
+    const fitted = cal.slope_perM * standards[i]!.concentration_M + cal.intercept_AU;
+    return { line: r.line, concentration: r.values[0]!, absorbance: r.values[1]!, fitted_AU: fitted, residual_AU: r.values[1]! - fitted };
+  });
+  const predictions = predict.map((a) => {
+    const p = predictConcentration(cal, a);
+    return {
+      absorbance: a,
+      concentration: p.concentration_M / f,
+      stdErr: p.stdErr_M === null ? null : p.stdErr_M / f,
+      ci95: p.ci_M ? ([p.ci_M[0] / f, p.ci_M[1] / f] as [number, number]) : null,
+      warnings: p.warnings,
+    };
+  });
+  const scale = (ci: [number, number] | null): [number, number] | null => (ci ? [ci[0] * f, ci[1] * f] : null);
+  const result = {
+    file,
+    concentrationUnit: unit.unit,
+    model: cal.hasIntercept ? 'A = epsilon*L*c + a' : 'A = epsilon*L*c',
+    pathLength_cm: cal.pathLength_cm,
+    n: cal.n,
+    distinctConcentrations: cal.distinctConcentrations,
+    dof: cal.dof,
+    slope_AUperUnit: cal.slope_perM * f,
+    slopeStdErr_AUperUnit: cal.slopeStdErr_perM === null ? null : cal.slopeStdErr_perM * f,
+    slopeCI95_AUperUnit: scale(cal.slopeCI_perM),
+    epsilon_perMperCm: cal.epsilon_perMperCm,
+    epsilonStdErr_perMperCm: cal.epsilonStdErr_perMperCm,
+    epsilonCI95_perMperCm: cal.epsilonCI_perMperCm,
+    intercept_AU: cal.hasIntercept ? cal.intercept_AU : null,
+    interceptStdErr_AU: cal.interceptStdErr_AU,
+    interceptCI95_AU: cal.interceptCI_AU,
+    residualSd_AU: cal.residualSd_AU,
+    rSquared: cal.rSquared,
+    residuals,
+    predictions,
+    warnings: cal.warnings,
+  };
+  if (save !== undefined) {
+    try {
+      saveCalibrationFile(save, calibrationFile(cal, unit.unit, file, isoWithLocalOffset(new Date())));
+    } catch (err) {
+      if (err instanceof CalibrationFileError) throw new InputError(`rateline calibrate: ${err.message}`);
+      throw err;
+    }
+  }
+  if (format === 'json') console.log(JSON.stringify(save === undefined ? result : { ...result, saved: save }, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2));
+  else console.log(calibrationText(result, cal) + (save === undefined ? '' : `\nSaved to ${save} (rateline analyze RUN --calibration ${save} fits the run in ${unit.unit}).`));
+  return 0;
+}
+
+const pm = (v: number, se: number | null): string => formatWithUncertainty(v, se);
+const ci = (c: [number, number] | null, se: number | null): string => (c && se !== null ? `   95% CI ${formatInterval(c, se)}` : '   95% CI not available');
+const g = (x: number, digits = 4): string => (x !== 0 && (Math.abs(x) < 1e-3 || Math.abs(x) >= 1e5) ? x.toExponential(digits - 1) : x.toPrecision(digits));
+
+function calibrationText(r: {
+  file: string; concentrationUnit: string; pathLength_cm: number; n: number; distinctConcentrations: number; dof: number;
+  slope_AUperUnit: number; slopeStdErr_AUperUnit: number | null; slopeCI95_AUperUnit: [number, number] | null;
+  epsilon_perMperCm: number; epsilonStdErr_perMperCm: number | null; epsilonCI95_perMperCm: [number, number] | null;
+  intercept_AU: number | null; interceptStdErr_AU: number | null; interceptCI95_AU: [number, number] | null;
+  residualSd_AU: number | null; rSquared: number | null;
+  residuals: { line: number; concentration: number; absorbance: number; fitted_AU: number; residual_AU: number }[];
+  predictions: { absorbance: number; concentration: number; stdErr: number | null; ci95: [number, number] | null; warnings: string[] }[];
+  warnings: string[];
+}, cal: Calibration): string {
+  const u = r.concentrationUnit;
+  const out: string[] = [];
+  out.push(`Beer–Lambert calibration, ${r.file}: ${r.n} reading(s) at ${r.distinctConcentrations} concentration(s); concentrations in ${u} (the file's column), path length ${r.pathLength_cm} cm`);
+  out.push(cal.hasIntercept ? 'Model: A = ε L c + a (a = blank offset), ordinary least squares' : 'Model: A = ε L c (through the origin), ordinary least squares');
+  out.push(`  slope = ${pm(r.slope_AUperUnit, r.slopeStdErr_AUperUnit)} AU per ${u}${ci(r.slopeCI95_AUperUnit, r.slopeStdErr_AUperUnit)}`);
+  out.push(`  ε     = ${pm(r.epsilon_perMperCm, r.epsilonStdErr_perMperCm)} M⁻¹ cm⁻¹${ci(r.epsilonCI95_perMperCm, r.epsilonStdErr_perMperCm)}`);
+  if (r.intercept_AU !== null) out.push(`  a     = ${pm(r.intercept_AU, r.interceptStdErr_AU)} AU${ci(r.interceptCI95_AU, r.interceptStdErr_AU)}`);
+  out.push(`  residual SD ${r.residualSd_AU === null ? 'not available' : `${g(r.residualSd_AU, 3)} AU`}, R² ${r.rSquared === null ? 'not available' : r.rSquared.toFixed(6)}, ${r.dof} dof`);
+  out.push('');
+  const rows = [['line', `c (${u})`, 'A', 'fitted A', 'residual (AU)']];
+  for (const s of r.residuals) rows.push([String(s.line), g(s.concentration), s.absorbance.toFixed(4), s.fitted_AU.toFixed(4), (s.residual_AU >= 0 ? '+' : '') + s.residual_AU.toFixed(4)]);
+  out.push(...table(rows));
+  if (r.predictions.length > 0) {
+    out.push('');
+    out.push(`Unknowns (concentration in ${u}, standard error from the calibration-curve formula):`);
+    for (const p of r.predictions) {
+      out.push(`  A = ${p.absorbance}: c = ${pm(p.concentration, p.stdErr)} ${u}${ci(p.ci95, p.stdErr)}`);
+      for (const w of p.warnings) out.push(`    - ${w}`);
+    }
+  }
+  out.push(`Warnings: ${r.warnings.length === 0 ? 'none' : ''}`);
+  for (const w of r.warnings) out.push(`  - ${w}`);
+  return out.join('\n');
+}
+
+function table(rows: string[][]): string[] {
+  const widths = rows[0]!.map((_, j) => Math.max(...rows.map((r) => r[j]!.length)));
+  return rows.map((r) => r.map((c, j) => c.padStart(widths[j]!)).join('  ').trimEnd());
+}
