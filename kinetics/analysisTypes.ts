@@ -1,100 +1,26 @@
 /**
- * What the streaming engine reports. This is the one contract the command, the
- * bench service and the screens all read; the JSON output of `rateline analyze`
- * is this object with the file and the calibration used beside it (a value that
- * cannot be had is null, never left out).
+ * The streaming engine's types. The result's shape is declared once, as the zod schema
+ * in analysisSchema.ts; its types are inferred from it here. The options are the
+ * analyzer's own (they never cross the bridge as they are).
  */
+import type { z } from 'zod';
+import type {
+  AdviceStateSchema, AnalysisResultSchema, InitialRateSchema, IntegerOrderSchema, LeftOutSchema, ModelNameSchema,
+  ModelSummarySchema, NthOrderSummarySchema, StopAdviceSchema, UnitsSchema, VerdictOrderSchema, VerdictSchema,
+} from './analysisSchema';
 
-export type IntegerOrder = 'zero' | 'first' | 'second';
-export type ModelName = IntegerOrder | 'nth';
-export type VerdictOrder = IntegerOrder | 'undecided';
-
-export interface ModelSummary {
-  /** Rate constant in `units.k[model]`; null when the fit is not available yet. */
-  k: number | null;
-  kStdErr: number | null;
-  kCI95: [number, number] | null;
-  /** Signal at time zero of the fit window (absorbance, or concentration when calibrated). */
-  a0: number | null;
-  a0StdErr: number | null;
-  /** End signal A∞ (fixed or fitted). */
-  aInf: number | null;
-  aInfStdErr: number | null;
-  aInfFixed: boolean;
-  halfLife_s: number | null;
-  halfLifeStdErr_s: number | null;
-  aicc: number | null;
-  rss: number | null;
-  chiSquare: number | null;
-  dof: number | null;
-  /** Wald–Wolfowitz runs test on the residual signs: two-sided p-value. */
-  runsTestP: number | null;
-  converged: boolean;
-  warnings: string[];
-}
-
-export interface NthOrderSummary extends ModelSummary {
-  order: number | null;
-  orderStdErr: number | null;
-}
-
-export interface Verdict {
-  order: VerdictOrder;
-  /** Akaike weights of the integer orders (sum 1), null before any fit. */
-  weights: { zero: number | null; first: number | null; second: number | null };
-  /** Plain-language reason for the verdict, or for staying undecided. */
-  reason: string;
-}
-
-export type AdviceState = 'gathering' | 'estimating' | 'settled' | 'farEnough';
-
-export interface StopAdvice {
-  state: AdviceState;
-  /** Stop suggested at this point (settled and the target reached). */
-  suggested: boolean;
-  /** Time of the first point at which the stop suggestion held during the feed, or null. */
-  atTime_s: number | null;
-  /** Predicted time at which the target fraction converted is reached, with its standard error. */
-  predictedAt_s: number | null;
-  predictedAtStdErr_s: number | null;
-  /** Settled and the order decided before the target: an early stop is the user's choice. */
-  earlyStopPossible: boolean;
-  /** Relative 95% CI half-width of k now, and as predicted at the target (what stopping now costs). */
-  kRelCI95Now: number | null;
-  kRelCI95AtTarget: number | null;
-  reason: string;
-}
-
-export interface AnalysisUnits {
-  time: 's';
-  signal: string;
-  k: { zero: string; first: string; second: string; nth: string };
-}
-
-export interface AnalysisResult {
-  points: number;
-  /** Last time minus first time of all points fed (not only the window). */
-  duration_s: number;
-  /** Points inside the fit window. */
-  pointsInWindow: number;
-  window: { from_s: number | null; to_s: number | null };
-  verdict: Verdict;
-  models: { zero: ModelSummary; first: ModelSummary; second: ModelSummary; nth: NthOrderSummary };
-  /** The model that drives progress and advice: the verdict's, or first order while undecided. */
-  drivingModel: IntegerOrder;
-  /** −log2(1 − f) for the fraction converted so far under the driving model. */
-  halfLivesElapsed: number | null;
-  fractionConverted: number | null;
-  targetHalfLives: number;
-  stop: StopAdvice;
-  /** 0-based indices (in feed order) of points the robust fit down-weighted. */
-  outliers: number[];
-  units: AnalysisUnits;
-  /** Run-level warnings in plain language (signal faded into the noise, nothing reacting, ...). */
-  warnings: string[];
-  /** The CI covers measurement noise only, not systematic error (temperature, mixing, calibration). */
-  uncertaintyNote: string;
-}
+export type IntegerOrder = z.infer<typeof IntegerOrderSchema>;
+export type ModelName = z.infer<typeof ModelNameSchema>;
+export type VerdictOrder = z.infer<typeof VerdictOrderSchema>;
+export type ModelSummary = z.infer<typeof ModelSummarySchema>;
+export type NthOrderSummary = z.infer<typeof NthOrderSummarySchema>;
+export type Verdict = z.infer<typeof VerdictSchema>;
+export type AdviceState = z.infer<typeof AdviceStateSchema>;
+export type StopAdvice = z.infer<typeof StopAdviceSchema>;
+export type AnalysisUnits = z.infer<typeof UnitsSchema>;
+export type LeftOutCounts = z.infer<typeof LeftOutSchema>;
+export type InitialRate = z.infer<typeof InitialRateSchema>;
+export type AnalysisResult = z.infer<typeof AnalysisResultSchema>;
 
 export interface AnalyzerOptions {
   /** Target in half-lives: fraction converted f = 1 − 2^(−N). Default 3. */
@@ -110,6 +36,8 @@ export interface AnalyzerOptions {
   sigmaT?: number;
   /** Robust fitting against spikes (default true). */
   robust?: boolean;
+  /** How far the blank may plausibly be off, AU (default 0.05; see endValueBounds.ts). */
+  blankAllowance_AU?: number;
   /** A∞ held at this value instead of fitted (first, second and n-th order); zero order uses it too. */
   fixedAInf?: number;
   /**
@@ -122,7 +50,8 @@ export interface AnalyzerOptions {
 
 /** The streaming analyzer's public face. */
 export interface RunAnalyzerLike {
-  add(time_s: number, absorbance: number): void;
+  /** One reading; `saturated` when the instrument flagged it (it is then left out and counted). */
+  add(time_s: number, absorbance: number, saturated?: boolean): void;
   /** The last refit's report (refits come on a schedule set by the reading count). */
   result(): AnalysisResult;
   /** Refit now if readings came in since the last refit (at the end of a run or a feed). */

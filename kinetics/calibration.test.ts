@@ -21,8 +21,9 @@ function demoStandards(seed: number, replicates = 3, blank_AU = 0.004): Calibrat
   return out;
 }
 
+/** The plain line these checks are about: unweighted, with an intercept (the self-tests are in calibrationChecks.test.ts). */
 function mustCalibrate(standards: CalibrationStandard[], opts = {}): Calibration {
-  const out = calibrate(standards, opts);
+  const out = calibrate(standards, { intercept: true, weighted: false, ...opts });
   if (!out.ok) throw new Error(out.error);
   return out.calibration;
 }

@@ -20,6 +20,11 @@
 import { fitLeastSquares } from './fit/leastSquares';
 import { linearFit, type LinearFitResult } from './fit/linearFit';
 import { studentTCdf } from './fit/studentT';
+import { absorbanceSigma } from './reactionModel';
+import {
+  detectionLimits, interceptTestP, INTERCEPT_TEST_ALPHA, lackOfFit, LACK_OF_FIT_ALPHA, noiseGrows, studentisedResiduals,
+  type DetectionLimits, type LackOfFit, type StudentisedResidual,
+} from './calibrationChecks';
 
 /** Below this a standard's absorbance is a wrong blank or a mix-up, not noise. */
 const NEGATIVE_LIMIT_AU = -0.05;
@@ -34,8 +39,17 @@ export interface CalibrationStandard {
 export interface CalibrationOptions {
   /** Cuvette path length; 1.00 cm when omitted. */
   pathLength_cm?: number;
-  /** Fit a blank offset (default true); false forces A = ε b c. */
-  intercept?: boolean;
+  /**
+   * Fit a blank offset (true), force A = ε b c (false), or let the data say (default
+   * 'auto': both are fitted and the intercept kept when its t-test rejects a = 0).
+   */
+  intercept?: boolean | 'auto';
+  /** Weights from the absorbance noise model: on, off, or (default 'auto') when the replicates show the noise growing with A. */
+  weighted?: boolean | 'auto';
+  /** Transmittance noise σ_T for the weights (default 0.001, as for the runs). */
+  sigmaT?: number;
+  /** Replicate readings of the blank, AU: σ for LOD/LOQ (else the line's residual SD). */
+  blankAbsorbances?: readonly number[];
   confidence?: number;
   /** Upper end of the trusted linear range; 1.0 AU when omitted. */
   linearLimit_AU?: number;
@@ -67,6 +81,18 @@ export interface Calibration {
   curvatureP: number | null;
   confidence: number;
   warnings: string[];
+  /** Which line is used and why (origin or intercept, from the t-test of a = 0). */
+  modelChoice: { used: 'intercept' | 'origin'; interceptP: number | null; reason: string };
+  /** Whether the line is weighted by the absorbance noise model, and why. */
+  weighting: { weighted: boolean; reason: string };
+  /** LOD = 3.3 σ/S, LOQ = 10 σ/S (ICH Q2(R1)); null without a σ. */
+  detection: DetectionLimits | null;
+  /** σ_T of the noise model behind the weights. */
+  sigmaT: number;
+  /** Standards whose externally studentised residual lies beyond the Bonferroni limit. */
+  outlyingStandards: StudentisedResidual[];
+  /** Lack-of-fit F test when standards are replicated. */
+  lackOfFit: LackOfFit | null;
   /** The underlying straight-line fit (for the report). */
   fit: LinearFitResult;
 }
@@ -99,9 +125,42 @@ export function calibrate(standards: readonly CalibrationStandard[], options: Ca
   }
   const x = Float64Array.from(standards, (s) => s.concentration_M);
   const y = Float64Array.from(standards, (s) => s.absorbance);
-  const hasIntercept = options.intercept !== false;
-  const fit = linearFit({ x, y, intercept: hasIntercept, confidence });
+  // Weights: the runs' own noise model, where the replicates show the noise growing with A.
+  const grows = noiseGrows(x, y);
+  const weighted = options.weighted === 'auto' || options.weighted === undefined ? grows?.grows === true : options.weighted;
+  const weighting = {
+    weighted,
+    reason: options.weighted === true ? 'weighted by the absorbance noise model, as asked'
+      : options.weighted === false ? 'unweighted, as asked'
+        : grows === null ? 'unweighted: no replicated standards to show how the noise grows with absorbance'
+          : grows.grows ? `weighted by the absorbance noise model (σ_A = 0.434 σ_T/T): the replicates' SD grows from ${grows.sdLow.toPrecision(2)} to ${grows.sdHigh.toPrecision(2)} AU`
+            : `unweighted: the replicates' SD stays within a factor of 2 (${grows.sdLow.toPrecision(2)} to ${grows.sdHigh.toPrecision(2)} AU)`,
+  };
+  const sigmaT = options.sigmaT ?? 0.001;
+  const w = Float64Array.from(y, (a) => (weighted ? 1 / absorbanceSigma(Math.max(0, a), sigmaT) ** 2 : 1));
+  const lineOf = (intercept: boolean): LinearFitResult => linearFit({ x, y, weights: weighted ? w : undefined, intercept, confidence });
+  // Origin or intercept: both fitted, the intercept kept when the t-test rejects a = 0.
+  const withIntercept = lineOf(true);
+  const interceptP = withIntercept.ok ? interceptTestP(withIntercept.intercept, withIntercept.byName.intercept!.stdErr, withIntercept.dof) : null;
+  let hasIntercept: boolean;
+  let reason: string;
+  if (options.intercept === true || options.intercept === false) {
+    hasIntercept = options.intercept;
+    reason = `${hasIntercept ? 'with an intercept' : 'through the origin'}, as asked` + (interceptP === null ? '' : ` (t-test of a = 0: p = ${interceptP.toPrecision(2)})`);
+  } else if (interceptP === null) {
+    hasIntercept = true;
+    reason = 'with an intercept: too few standards to test it against zero, so the blank offset is not assumed away';
+  } else {
+    hasIntercept = interceptP < INTERCEPT_TEST_ALPHA;
+    reason = hasIntercept
+      ? `with an intercept: a = 0 is rejected (t-test p = ${interceptP.toPrecision(2)} < ${INTERCEPT_TEST_ALPHA}), so the blank is off`
+      : `through the origin: the intercept does not differ from zero (t-test p = ${interceptP.toPrecision(2)} ≥ ${INTERCEPT_TEST_ALPHA})`;
+  }
+  const fit = hasIntercept ? withIntercept : lineOf(false);
   if (!fit.ok) return { ok: false, error: `calibration fit failed: ${fit.warnings[0]}` };
+  if (!Number.isFinite(fit.slope) || !Number.isFinite(fit.intercept) || (fit.residualSd !== null && !Number.isFinite(fit.residualSd))) {
+    return { ok: false, error: `the calibration line is not finite (slope ${fit.slope}); an absorbance or concentration is far too large; correct the standards and calibrate again.` };
+  }
   const warnings: string[] = [];
   if (fit.dof <= 0) warnings.push(`only ${fit.n} standard(s): the line has no degrees of freedom left, so no uncertainty can be given; measure at least ${fit.n + 1}.`);
   if (fit.slope <= 0) warnings.push('the absorbance does not rise with concentration (slope ≤ 0); check the standards and the wavelength.');
@@ -126,6 +185,15 @@ export function calibrate(standards: readonly CalibrationStandard[], options: Ca
     warnings.push(`the residuals curve (quadratic term p = ${curvatureP.toExponential(2)}): the standards are not on a straight line; narrow the range or check for saturation.`);
   }
 
+  const data = { x, y, w };
+  const studentised = studentisedResiduals(data, fit.slope, fit.intercept, hasIntercept);
+  for (const o of studentised.flagged) {
+    const st = standards[o.index]!;
+    warnings.push(`standard ${o.index + 1} (${st.concentration_M} M, ${st.absorbance} AU) does not belong to the line (studentised residual ${o.t.toFixed(1)}, beyond ±${studentised.limit!.toFixed(1)}): re-measure it or leave it out.`);
+  }
+  const lof = lackOfFit(data, fit.slope, fit.intercept, hasIntercept);
+  if (lof && lof.p < LACK_OF_FIT_ALPHA) warnings.push(`lack of fit: the replicated standards scatter less about their own means than the line misses them (F = ${lof.f.toPrecision(3)}, p = ${lof.p.toPrecision(2)}); the response is not a straight line over this range.`);
+  const zeroDof = fit.dof <= 0;
   const slope = fit.byName.slope!;
   const inter = fit.byName.intercept;
   const toEps = (v: number): number => v / pathLength_cm;
@@ -133,17 +201,17 @@ export function calibrate(standards: readonly CalibrationStandard[], options: Ca
     ok: true,
     calibration: {
       slope_perM: fit.slope,
-      slopeStdErr_perM: slope.stdErr,
+      slopeStdErr_perM: zeroDof ? null : slope.stdErr,
       slopeCI_perM: slope.ci,
       intercept_AU: fit.intercept,
       interceptStdErr_AU: inter ? inter.stdErr : null,
       interceptCI_AU: inter ? inter.ci : null,
       hasIntercept,
       epsilon_perMperCm: toEps(fit.slope),
-      epsilonStdErr_perMperCm: slope.stdErr === null ? null : toEps(slope.stdErr),
+      epsilonStdErr_perMperCm: slope.stdErr === null || zeroDof ? null : toEps(slope.stdErr),
       epsilonCI_perMperCm: slope.ci ? [toEps(slope.ci[0]), toEps(slope.ci[1])] : null,
       pathLength_cm,
-      residualSd_AU: fit.residualSd,
+      residualSd_AU: zeroDof ? null : fit.residualSd,
       rSquared: fit.rSquared,
       n: fit.n,
       dof: fit.dof,
@@ -153,6 +221,13 @@ export function calibrate(standards: readonly CalibrationStandard[], options: Ca
       curvatureP,
       confidence,
       warnings: [...fit.warnings, ...warnings],
+      modelChoice: { used: hasIntercept ? 'intercept' : 'origin', interceptP, reason },
+      weighting,
+      sigmaT,
+      // weighted, the residual SD is a scale on the noise model: σ at the blank is s·σ_A(0)
+      detection: detectionLimits(fit.slope, zeroDof || fit.residualSd === null ? null : fit.residualSd * (weighted ? absorbanceSigma(0, sigmaT) : 1), options.blankAbsorbances),
+      outlyingStandards: studentised.flagged,
+      lackOfFit: lof,
       fit,
     },
   };
@@ -204,10 +279,14 @@ export function predictConcentration(cal: Calibration, absorbance: number, readi
   const fit = cal.fit;
   let se: number | null = null;
   if (cal.residualSd_AU !== null && Number.isFinite(c) && readings >= 1) {
+    // Weighted (w = 1/σ_A²): s is the reduced-χ² scale, the unknown's own noise is s·σ_A(A0)
+    // and the line's part uses Σw and the weighted Sxx; unweighted, w = 1 and this is the
+    // handbook formula above.
     const sy = cal.residualSd_AU;
+    const own = cal.weighting.weighted ? absorbanceSigma(Math.max(0, absorbance), cal.sigmaT) ** 2 : 1;
     const term = cal.hasIntercept
-      ? 1 / readings + 1 / fit.n + (absorbance - fit.meanY) ** 2 / (b * b * fit.sxx)
-      : 1 / readings + (absorbance * absorbance) / (b * b * fit.sxx);
+      ? own / readings + 1 / fit.sumWeights + (absorbance - fit.meanY) ** 2 / (b * b * fit.sxx)
+      : own / readings + (absorbance * absorbance) / (b * b * fit.sxx);
     se = Math.abs(sy / b) * Math.sqrt(term);
   }
   const tq = fit.tQuantile;

@@ -3,7 +3,8 @@
  * with standard errors by the delta method: Var g(p) ≈ ∇gᵀ Σ ∇g, with Σ the fit's
  * covariance (held parameters have zero rows, so they contribute nothing).
  *
- * Integrated rate laws, rate = k[A]^n, C = A0 − A∞ (handbook forms):
+ * Integrated rate laws, rate = k[A]^n, C = |A0 − A∞| (handbook forms; a rising run, where
+ * an absorbing product forms, has the same half-life as a falling one of the same |C|):
  *   zero:   t½ = C/(2k)              time to fraction f: f C / k
  *   first:  t½ = ln2/k               −ln(1 − f)/k
  *   second: t½ = 1/(k C)             f / ((1 − f) k C)
@@ -23,7 +24,7 @@ function orderOf(model: ModelName, p: Float64Array): number {
 
 /** Time (from the window start) at which the fraction f of C has reacted; null when never. */
 export function timeToFraction(model: ModelName, p: Float64Array, f: number): number | null {
-  const k = p[K], c = p[A0] - p[AINF], n = orderOf(model, p);
+  const k = p[K], c = Math.abs(p[A0] - p[AINF]), n = orderOf(model, p);
   if (!(k > 0) || !(c > 0) || !(f >= 0 && f < 1)) return f === 0 ? 0 : null;
   let t: number;
   if (Math.abs(n - 1) < 1e-9) t = -Math.log(1 - f) / k;
@@ -38,7 +39,7 @@ export function halfLife(model: ModelName, p: Float64Array): number | null {
 
 /** Fraction of C reacted by time τ under the model, in [0, 1]. */
 export function fractionConvertedAt(model: ModelName, p: Float64Array, tau_s: number): number | null {
-  const k = p[K], c = p[A0] - p[AINF], n = orderOf(model, p);
+  const k = p[K], c = Math.abs(p[A0] - p[AINF]), n = orderOf(model, p);
   if (!(c > 0) || !(k >= 0) || !(tau_s >= 0)) return null;
   let left: number; // (remaining reacting part) / C
   if (Math.abs(n - 1) < 1e-9) left = Math.exp(-k * tau_s);

@@ -5,7 +5,7 @@
  * curve, inverted and scaled by today's reduced χ². Noise only, like every CI here.
  */
 import type { FitSeries, RateLaw } from './models/modelTypes';
-import { freeIndices, informationMatrix, invertSymmetric } from './models/fitStatistics';
+import { freeIndices, informationMatrix, invertSymmetric } from './models/rateLawStatistics';
 import { K } from './models/modelTypes';
 
 /** At most this many sample times stand for the future readings (each with its multiplicity). */

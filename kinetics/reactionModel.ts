@@ -1,8 +1,10 @@
 /**
  * The physical model the simulator plays: a reactant whose absorbance decays by an
- * integrated rate law, read through an instrument with transmittance noise.
- * Rate = −d[A]/dt = k[A]^n (no stoichiometric factor). Pure: used by the
- * `rateline simulate` command and by the simulated instrument in acquisition/.
+ * integrated rate law (or an absorbing product that forms as it goes: aInf above a0),
+ * read through an instrument with transmittance noise.
+ * Rate = −d[A]/dt = k[A]^n (no stoichiometric factor), with [A] the reacting part of the
+ * signal, |A − A∞|. Pure: used by the `rateline simulate` command and by the simulated
+ * instrument in acquisition/.
  */
 import { seededRandom, type RandomSource } from './random';
 
@@ -14,7 +16,7 @@ export interface ReactionParameters {
   k: number;
   /** Absorbance at time zero (mixing). */
   a0: number;
-  /** End absorbance, colour left when the reaction is over. */
+  /** End absorbance, colour left when the reaction is over; above a0 for a product-forming run. */
   aInf: number;
 }
 
@@ -26,7 +28,8 @@ export function orderValue(order: SimulatedOrder): number {
 /** Noise-free absorbance at time t (s) after mixing. */
 export function trueAbsorbance(p: ReactionParameters, time_s: number): number {
   const t = Math.max(0, time_s);
-  const c0 = p.a0 - p.aInf; // the part of the signal that reacts
+  const sign = p.a0 >= p.aInf ? 1 : -1; // falling (reactant used up) or rising (product formed)
+  const c0 = sign * (p.a0 - p.aInf); // the part of the signal that reacts
   const n = orderValue(p.order);
   if (c0 <= 0) return p.a0;
   let c: number;
@@ -39,7 +42,7 @@ export function trueAbsorbance(p: ReactionParameters, time_s: number): number {
     const base = Math.pow(c0, 1 - n) + (n - 1) * p.k * t;
     c = base <= 0 ? 0 : Math.pow(base, 1 / (1 - n));
   }
-  return p.aInf + c;
+  return p.aInf + sign * c;
 }
 
 export interface InstrumentNoise {

@@ -26,9 +26,20 @@ describe('a calibrated signal, c = (A − a)/m, fitted by the same engine', () =
     expect(rel(conc.models.first.kStdErr!, abs.models.first.kStdErr!)).toBeLessThan(1e-6);
     expect(rel(conc.models.first.a0!, (abs.models.first.a0! - a) / m)).toBeLessThan(1e-9); // c0 = (A0 − a)/m
     expect(rel(conc.models.second.k!, abs.models.second.k! * m)).toBeLessThan(1e-6); // 1/(A − A∞) = 1/(m (c − c∞))
-    // Zero order ends on the blank, c∞ = 0, which is A∞ = a in absorbance: A = A0 − k t down to a.
-    const held = fit({ fixedAInf: a });
-    expect(rel(conc.models.zero.k!, held.models.zero.k! / m)).toBeLessThan(1e-6);
+    // Zero order's end value (fitted at the plateau, or held on the blank, A∞ = 0 AU, which
+    // is c∞ = −a/m) maps through the line: the same line, the same half-life (A0 − A∞ maps
+    // to c0 − c∞ through the slope alone).
+    expect(rel(conc.models.zero.k!, abs.models.zero.k! / m)).toBeLessThan(1e-6);
+    expect(rel(conc.models.zero.aInf!, (abs.models.zero.aInf! - a) / m)).toBeLessThan(1e-6);
+    // a zero-order run that has not reached its end holds it on the blank: c∞ = −a/m
+    const line = simulateRun({ ...DEMO_RUN, order: 'zero', k: 6.5e-4, seed: 3 });
+    const an = new RunAnalyzer({ signal: { name: 'concentration', unit: 'µM', absorbance: { slope: m, intercept: a } } });
+    for (let i = 0; i < line.time_s.length; i++) an.add(line.time_s[i]!, (line.absorbance[i]! - a) / m);
+    const held = an.flush().models.zero;
+    expect(held.aInfFixed).toBe(true);
+    expect(rel(held.aInf!, -a / m)).toBeLessThan(1e-12);
+    expect(rel(conc.models.zero.halfLife_s!, abs.models.zero.halfLife_s!)).toBeLessThan(1e-6);
+    expect(rel(conc.models.first.halfLife_s!, abs.models.first.halfLife_s!)).toBeLessThan(1e-6);
     expect(conc.outliers).toEqual(abs.outliers);
     expect(conc.units.k.second).toBe('µM^-1 s^-1');
     expect(conc.warnings.join(' ')).not.toMatch(/noise model were applied/);

@@ -4,7 +4,7 @@ import { HOLD_MIN_POINTS, StopAdvisor, type AdviceInput } from './stopAdvice';
 const input = (o: Partial<AdviceInput>): AdviceInput => ({
   points: 100, time_s: 100, fitUsable: true, kRelCI95Now: 0.2, kRelCI95AtTarget: 0.03, fractionConverted: 0.3,
   targetFraction: 0.875, targetHalfLives: 3, precision: 0.05, orderDecided: false, drivingModel: 'first',
-  predictedAt_s: 600, predictedAtStdErr_s: 5, ...o,
+  predictedAt_s: 600, predictedAtStdErr_s: 5, plausibleModels: ['first'], readingsPerHalfLife: null, ...o,
 });
 
 describe('stop advice state machine', () => {

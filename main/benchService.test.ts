@@ -11,29 +11,20 @@ import { EventSchema, MIN_ANALYSIS_INTERVAL_MS, type BridgeEvent } from './bridg
 import { BenchService } from './benchService';
 import { openJournalSink } from './bench/journalSink';
 import { createBenchService, DEMO_DURATION_S } from './bench/benchWiring';
-import type { AnalyzerOptions, ModelSummary, RunAnalyzerLike } from '../kinetics/analysisTypes';
+import type { AnalyzerOptions, RunAnalyzerLike } from '../kinetics/analysisTypes';
+import { emptyReport } from '../kinetics/analysisReport';
 
 /** A stand-in analyzer for these wiring tests: counts what it is fed, fits nothing. */
 function testAnalyzer(o: AnalyzerOptions): RunAnalyzerLike {
   let count = 0;
   let first = Number.NaN;
   let last = Number.NaN;
-  const empty: ModelSummary = {
-    k: null, kStdErr: null, kCI95: null, a0: null, a0StdErr: null, aInf: null, aInfStdErr: null, aInfFixed: false,
-    halfLife_s: null, halfLifeStdErr_s: null, aicc: null, rss: null, chiSquare: null, dof: null, runsTestP: null,
-    converged: false, warnings: [],
-  };
   return {
     get count() { return count; },
     add(t) { if (count === 0) first = t; last = t; count++; },
     result: (): AnalysisResult => ({
-      points: count, duration_s: count ? last - first : 0, pointsInWindow: count, window: { from_s: o.from_s ?? null, to_s: o.to_s ?? null },
-      verdict: { order: 'undecided', weights: { zero: null, first: null, second: null }, reason: 'stand-in' },
-      models: { zero: empty, first: empty, second: empty, nth: { ...empty, order: null, orderStdErr: null } },
-      drivingModel: 'first', halfLivesElapsed: null, fractionConverted: null, targetHalfLives: o.targetHalfLives ?? 3,
-      stop: { state: 'gathering', suggested: false, atTime_s: null, predictedAt_s: null, predictedAtStdErr_s: null, earlyStopPossible: false, kRelCI95Now: null, kRelCI95AtTarget: null, reason: 'stand-in' },
-      outliers: [], units: { time: 's', signal: 'AU', k: { zero: 'AU/s', first: '1/s', second: '1/(AU s)', nth: '' } },
-      warnings: [], uncertaintyNote: 'stand-in',
+      ...emptyReport({ ...o, targetHalfLives: o.targetHalfLives ?? 3, precision: o.precision ?? 0.05 }, 'stand-in'),
+      points: count, duration_s: count ? last - first : 0, pointsInWindow: count,
     }),
   };
 }

@@ -100,13 +100,13 @@ export class ChartFrameBuilder {
       this.reducedKey = key;
     }
     const r = this.reduced;
-    const drive = analysis ? curveParameters(analysis, analysis.verdict.order === 'undecided' ? analysis.drivingModel : analysis.verdict.order, out.firstInWindow_s) : null;
+    const drive = analysis ? curveParameters(analysis, analysis.drivingModel, out.firstInWindow_s) : null;
     let yMin = Infinity, yMax = -Infinity;
     this.absResiduals.length = 0;
     for (let i = 0; i < r.count; i++) {
       const ti = r.x[i]!;
       const a = r.y[i]!;
-      const v = viewValue(view, a, out.baseline);
+      const v = viewValue(view, a, out.baseline, analysis?.direction === 'rising');
       const inside = ti >= out.windowFrom && ti <= out.windowTo;
       out.x.push(ti);
       if (v === null) out.hidden++;

@@ -36,14 +36,12 @@ export function curveParameters(result: AnalysisResultView, model: CurveModel, f
 }
 
 /**
- * Absorbance of the fitted model at time t after mixing (s). Zero order is the
- * straight line A0 − k τ as fitted (A∞ only marks where it would end); the others
- * are the integrated rate laws with τ = t − origin.
+ * Absorbance of the fitted model at time t after mixing (s): the integrated rate laws
+ * with τ = t − origin, falling or rising (an absorbing product forming) alike; zero
+ * order is the straight line until it meets its end value.
  */
 export function curveAbsorbance(p: CurveParameters, t_s: number): number {
-  const tau = t_s - p.origin_s;
-  if (p.order === 0) return p.a0 - p.k * tau;
-  return trueAbsorbance({ order: p.order, k: p.k, a0: p.a0, aInf: p.aInf ?? 0 }, tau);
+  return trueAbsorbance({ order: p.order, k: p.k, a0: p.a0, aInf: p.aInf ?? 0 }, t_s - p.origin_s);
 }
 
 /** A∞ the linearised view subtracts: the first-order fit's for ln, the second-order's for 1/(A − A∞). */
@@ -58,9 +56,10 @@ export function viewBaseline(result: AnalysisResultView | null, view: ChartView)
  * (ln of A − A∞ ≤ 0, or 1/(A − A∞) of such a point: the noise near the end of a run
  * crosses A∞, and those points cannot be drawn in a linearised view).
  */
-export function viewValue(view: ChartView, absorbance: number, baseline: number | null): number | null {
+export function viewValue(view: ChartView, absorbance: number, baseline: number | null, rising = false): number | null {
   if (view === 'absorbance') return absorbance;
-  const d = absorbance - (baseline ?? 0);
+  // A rising run's reacting part is A∞ − A: the views show |A − A∞| on the run's side.
+  const d = (rising ? -1 : 1) * (absorbance - (baseline ?? 0));
   if (!(d > 0)) return null;
   return view === 'ln' ? Math.log(d) : 1 / d;
 }

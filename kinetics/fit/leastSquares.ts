@@ -13,7 +13,7 @@ import type { FitProblem, FitResult, RobustLoss } from './fitTypes';
 import { runLevenbergMarquardt } from './levenbergMarquardt';
 import { allocateLmBuffers, evaluateResiduals, type LmProblem } from './linearization';
 import { defaultTuning, updateRobustWeights } from './robustWeights';
-import { assembleFitResult, failedFit } from './fitStatistics';
+import { assembleFitResult, failedFit } from './leastSquaresResult';
 
 const DEFAULT_MAX_ITERATIONS = 200;
 const DEFAULT_TOLERANCE = 1e-10;

@@ -2,14 +2,15 @@
  * Hands a rate law to the general fitting core (kinetics/fit). The core sees
  * x = the index of a pseudo-point, so the model can predict the bin mean (with its
  * curvature correction) rather than the value at the bin's mean time. The core is
- * given C = A0 − A∞ instead of A0, so that "A∞ not above A0" is the box bound C ≥ 0.
+ * given c = |A0 − A∞| instead of A0, with the run's direction (falling or rising) held, so
+ * that "A∞ on the far side of A0" is the box bound c ≥ 0.
  * The reported statistics are then computed by finishFit like every other model's.
  */
 import { fitLeastSquares } from '../fit/leastSquares';
 import type { ParameterSpec } from '../fit/fitTypes';
 import type { ModelName } from '../analysisTypes';
 import { AINF, A0, K, ORDER, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
-import { binMean, finishFit } from './fitStatistics';
+import { aInfAtBoundWarning, binMean, failedModelFit, finishFit } from './rateLawStatistics';
 
 export interface CoreBounds {
   /** Extra parameter bounds beyond k ≥ 0, C ≥ 0, A∞ ≥ aInfMin (for the order n). */
@@ -33,19 +34,22 @@ export function fitWithCore(
 ): ModelFit {
   const np = start.length;
   const aInfFixed = opts.fixedAInf !== undefined;
-  const aInf0 = aInfFixed ? (opts.fixedAInf as number) : Math.max(opts.aInfMin, start[AINF]);
-  const c0 = Math.max(start[A0] - aInf0, 1e-12);
+  const dir = opts.direction ?? 1;
+  const aInfMax = opts.aInfMax ?? Number.POSITIVE_INFINITY;
+  const aInf0 = aInfFixed ? (opts.fixedAInf as number) : Math.min(aInfMax, Math.max(opts.aInfMin, start[AINF]));
+  const c0 = Math.max(dir * (start[A0] - aInf0), 1e-12);
+  const finiteOr = (v: number): number | undefined => (Number.isFinite(v) ? v : undefined);
   const specs: ParameterSpec[] = [
     { name: 'k', value: Math.max(start[K], 1e-30), min: 0 },
     { name: 'c', value: c0, min: 0 },
-    { name: 'aInf', value: aInf0, fixed: aInfFixed, min: opts.aInfMin },
+    { name: 'aInf', value: aInf0, fixed: aInfFixed, min: finiteOr(opts.aInfMin), max: finiteOr(aInfMax) },
   ];
   if (np > ORDER) specs.push({ name: 'n', value: start[ORDER], min: bounds.orderMin, max: bounds.orderMax });
-  // Core parameters q = (k, C, A∞[, n]) → rate-law parameters p = (k, A0 = A∞ + C, A∞[, n]).
+  // Core parameters q = (k, c, A∞[, n]) → rate-law parameters p = (k, A0 = A∞ ± c, A∞[, n]).
   const p = new Float64Array(np);
   const g = new Float64Array(np);
   const toP = (q: Float64Array): Float64Array => {
-    p[K] = q[0]; p[A0] = q[2] + q[1]; p[AINF] = q[2];
+    p[K] = q[0]; p[A0] = q[2] + dir * q[1]; p[AINF] = q[2];
     if (np > ORDER) p[ORDER] = q[3];
     return p;
   };
@@ -59,7 +63,7 @@ export function fitWithCore(
     jacobian: (x, q, out) => {
       law.gradient(s.tau_s[x | 0], toP(q), g);
       out[0] = g[K];
-      out[1] = g[A0];
+      out[1] = dir * g[A0];
       out[2] = g[A0] + g[AINF];
       if (np > ORDER) out[3] = g[ORDER];
     },
@@ -76,6 +80,10 @@ export function fitWithCore(
   const free = [!held('k'), !held('c'), !aInfFixed];
   if (np > ORDER) free.push(!held('n'));
   const warnings = result.warnings.map((w) => `${model} order: ${w}`);
-  if (held('c')) warnings.push(`${model} order: no decay found (A0 − A∞ fitted as zero)`);
-  return finishFit(model, law, s, final, free, result.ok && result.converged, warnings);
+  if (held('c')) return failedModelFit(model, `${model} order: no change found (A0 − A∞ fitted as zero)`, warnings);
+  const a = byName.aInf;
+  const side = !aInfFixed && a && a.atBound ? (a.value <= opts.aInfMin ? 'lower' : 'upper') : null;
+  if (side) warnings.push(aInfAtBoundWarning(model, a!.value, side));
+  if (!result.ok) return failedModelFit(model, `${model} order: ${result.warnings.at(-1) ?? 'the fit could not be run'}`, warnings);
+  return finishFit(model, law, s, final, free, result.converged, warnings, side);
 }

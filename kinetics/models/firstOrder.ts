@@ -1,12 +1,13 @@
 /**
- * First order: rate = k[A], so A = A∞ + (A0 − A∞) e^(−kt).
+ * First order: rate = k[A], so A = A∞ + (A0 − A∞) e^(−kt), falling (A0 > A∞, the followed
+ * species used up) or rising (A0 < A∞, an absorbing product formed) alike.
  * Solved by variable projection: for a given k the model is linear in A∞ and
  * C = A0 − A∞, so those come from a 2×2 weighted least-squares solve and only k is
  * searched (on ln k, where the profile χ² is well shaped). This cannot wander off in
  * the way a joint 3-parameter search can when A∞ and k trade against each other.
  */
 import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
-import { aInfAtFloorWarning, finishFit } from './fitStatistics';
+import { aInfAtBoundWarning, failedModelFit, finishFit } from './rateLawStatistics';
 
 export const firstOrderLaw: RateLaw = {
   name: 'first',
@@ -21,47 +22,52 @@ export const firstOrderLaw: RateLaw = {
   curvature: (tau, p) => p[K] * p[K] * (p[A0] - p[AINF]) * Math.exp(-p[K] * tau),
 };
 
-interface Linear { chi: number; aInf: number; c: number; aInfHeld: boolean }
+interface Linear { chi: number; aInf: number; c: number; aInfHeld: boolean; side: 'lower' | 'upper' | null }
 
-/** Best A∞ and C for a given k, within the bounds: A∞ ≥ aInfMin, C ≥ 0 (A∞ not above A0). */
+/**
+ * Best A∞ and C = A0 − A∞ for a given k, within the bounds: aInfMin ≤ A∞ ≤ aInfMax and
+ * C on the run's side of zero (C ≥ 0 falling, C ≤ 0 rising). Rising and falling runs are
+ * the same curve, A = A∞ + C e^(−kt), with C of either sign.
+ */
 function solveLinear(s: FitSeries, k: number, opts: ModelOptions, yMean: number): Linear {
   // Basis g = bin mean of e^(−kτ) ≈ e^(−kτ̄)(1 + ½k²v). Signals are taken about their
   // weighted mean so that χ² is not the small difference of large sums.
+  const dir = opts.direction ?? 1;
   let sw = 0, sg = 0, sgg = 0, sy = 0, sgy = 0, syy = 0;
   for (let i = 0; i < s.count; i++) {
     const w = s.w[i], y = s.y[i] - yMean;
     const g = Math.exp(-k * s.tau_s[i]) * (1 + 0.5 * k * k * s.v[i]);
     sw += w; sg += w * g; sgg += w * g * g; sy += w * y; sgy += w * g * y; syy += w * y * y;
   }
-  const withA = (aAbs: number): Linear => {
+  const chiOf = (a: number, c: number): number => syy + a * a * sw + c * c * sgg - 2 * a * sy - 2 * c * sgy + 2 * a * c * sg;
+  const withA = (aAbs: number, side: Linear['side']): Linear => {
     const a = aAbs - yMean;
-    // C given A∞ = a: minimise Σw(y − a − C g)².
-    const c = Math.max(0, sgg > 0 ? (sgy - a * sg) / sgg : 0);
-    const chi = syy + a * a * sw + c * c * sgg - 2 * a * sy - 2 * c * sgy + 2 * a * c * sg;
-    return { chi, aInf: aAbs, c, aInfHeld: true };
+    // C given A∞ = a: minimise Σw(y − a − C g)², on the run's side of zero.
+    const c = dir * Math.max(0, dir * (sgg > 0 ? (sgy - a * sg) / sgg : 0));
+    return { chi: chiOf(a, c), aInf: aAbs, c, aInfHeld: true, side };
   };
-  if (opts.fixedAInf !== undefined) return withA(opts.fixedAInf);
+  if (opts.fixedAInf !== undefined) return withA(opts.fixedAInf, null);
+  const lo = opts.aInfMin, hi = opts.aInfMax ?? Number.POSITIVE_INFINITY;
   const det = sw * sgg - sg * sg;
   if (det > 1e-14 * sw * sgg) {
     const a = (sy * sgg - sg * sgy) / det;
     const c = (sw * sgy - sg * sy) / det;
-    if (a + yMean >= opts.aInfMin && c >= 0) {
-      const chi = syy + a * a * sw + c * c * sgg - 2 * a * sy - 2 * c * sgy + 2 * a * c * sg;
-      return { chi, aInf: a + yMean, c, aInfHeld: false };
-    }
+    if (a + yMean >= lo && a + yMean <= hi && dir * c >= 0) return { chi: chiOf(a, c), aInf: a + yMean, c, aInfHeld: false, side: null };
   }
-  // On a bound: either A∞ at its floor, or C = 0 (A∞ = the weighted mean).
-  const floor = withA(opts.aInfMin);
-  const flat = { chi: syy - (sy * sy) / sw, aInf: yMean + sy / sw, c: 0, aInfHeld: true };
-  return floor.chi <= flat.chi ? floor : flat;
+  // On a bound: A∞ at its floor or its ceiling, or C = 0 (A∞ = the weighted mean).
+  let best: Linear = { chi: syy - (sy * sy) / sw, aInf: yMean + sy / sw, c: 0, aInfHeld: true, side: null };
+  for (const [v, side] of [[lo, 'lower'], [hi, 'upper']] as const) {
+    if (!Number.isFinite(v)) continue;
+    const cand = withA(v, side);
+    if (cand.chi < best.chi) best = cand;
+  }
+  return best;
 }
 
 /** Profile χ² over ln k: coarse scan (cold) or local bracket (warm), then golden section. */
 export function fitFirstOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   const p = new Float64Array(3);
-  if (s.count < 4) {
-    return finishFit('first', firstOrderLaw, s, p, [true, true, opts.fixedAInf === undefined], false, ['too few points for a first-order fit']);
-  }
+  if (s.count < 4) return failedModelFit('first', 'first order: too few points for a fit');
   let span = 0;
   for (let i = 0; i < s.count; i++) span = Math.max(span, s.tau_s[i]);
   span = Math.max(span, 1e-9);
@@ -105,14 +111,16 @@ export function fitFirstOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   const lin = solveLinear(s, k, opts, yMean);
   p[K] = k; p[A0] = lin.aInf + lin.c; p[AINF] = lin.aInf;
   const warnings: string[] = [];
-  if (lin.c === 0) warnings.push('first order: no decay found (A0 − A∞ fitted as zero)');
   if (m.x <= kLo + 1e-6) warnings.push('first order: the rate is too slow to measure over this span');
   const aInfFree = opts.fixedAInf === undefined;
-  if (aInfFree && lin.aInfHeld && lin.c > 0) warnings.push(aInfAtFloorWarning('first', lin.aInf));
-  // A∞ pinned on its floor by the bound (not by the user) still counts as free for the
-  // covariance: the data have not fixed it, and leaving it out would make k's CI far too
-  // narrow early in a run (k and A∞ trade against each other before the curve bends).
-  return finishFit('first', firstOrderLaw, s, p, [true, true, aInfFree], iter < 200 && lin.c > 0, warnings);
+  const side = aInfFree && lin.c !== 0 ? lin.side : null;
+  if (side) warnings.push(aInfAtBoundWarning('first', lin.aInf, side));
+  // A∞ pinned on a bound (not by the user) still counts as free for the covariance: the
+  // data have not fixed it, and leaving it out would make k's CI far too narrow early in a
+  // run (k and A∞ trade against each other before the curve bends). The analyzer widens
+  // the interval further by the refit without the bound (see boundedEnd.ts).
+  if (lin.c === 0) return failedModelFit('first', 'first order: no change found (A0 − A∞ fitted as zero)', warnings);
+  return finishFit('first', firstOrderLaw, s, p, [true, true, aInfFree], iter < 200, warnings, side);
 }
 
 /**

@@ -1,7 +1,7 @@
 /**
  * What the rate-law models share: the series they are fitted to and the fit they
  * return. The models know nothing of streaming: a series is a list of weighted
- * points, some of which may stand for a bin of many readings (see binnedSeries.ts).
+ * points, some of which may stand for a bin of many readings (see readingBins.ts).
  */
 import type { ModelName } from '../analysisTypes';
 
@@ -37,15 +37,37 @@ export interface FitSeries {
 export interface ModelOptions {
   /** A∞ held at this value (first, second, n-th order; zero order uses it as its end value). */
   fixedAInf?: number;
-  /** Lowest physical A∞: a little below the blank. */
+  /** Lowest physical A∞: the blank less what a blank can plausibly be off by (see endValueBounds.ts). */
   aInfMin: number;
+  /** Highest physical A∞: what the photometer can still read (a product-forming run rises towards it). */
+  aInfMax?: number;
+  /**
+   * +1 for a falling run (the followed species is used up, A0 above A∞), −1 for a rising
+   * one (a product that absorbs forms, A∞ above A0). Default +1.
+   */
+  direction?: 1 | -1;
+  /** The signal that reads as the blank (0 AU, or the concentration of A = 0 through a calibration line). */
+  blank?: number;
   /** Warm start: parameters of the previous fit of this model. */
   previous?: Float64Array;
 }
 
-export interface ModelFit {
+/** Which bound the end value A∞ sits on, if any (never when the user fixed it). */
+export type BoundSide = 'lower' | 'upper' | null;
+
+/** A fit that could not be had: which model, one reason, and what was said on the way. */
+export interface FailedModelFit {
   model: ModelName;
-  ok: boolean;
+  ok: false;
+  reason: string;
+  warnings: string[];
+}
+
+export type ModelFit = FittedModel | FailedModelFit;
+
+export interface FittedModel {
+  model: ModelName;
+  ok: true;
   /** k, a0, aInf (and n for n-th order). */
   params: Float64Array;
   /** Which parameters were fitted (a parameter left on a bound counts as held). */
@@ -60,6 +82,8 @@ export interface ModelFit {
   /** Weighted residual of each pseudo-point, (y − f)·√w, in time order. */
   residuals: Float64Array;
   converged: boolean;
+  /** A∞ came to rest on one of its physical bounds (see ModelOptions). */
+  aInfAtBound: BoundSide;
   warnings: string[];
 }
 

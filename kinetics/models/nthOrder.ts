@@ -1,6 +1,7 @@
 /**
  * General order n: rate = k[A]^n, so [A]^(1−n) = [A]0^(1−n) + (n − 1) k t, and
- * A = A∞ + c with c = (C^m − m k t)^(1/m), m = 1 − n, C = A0 − A∞.
+ * A = A∞ ± c with c = (|C|^m − m k t)^(1/m), m = 1 − n, C = A0 − A∞ (the sign of C:
+ * + for a falling run, − for a rising one, where an absorbing product forms).
  * n itself is fitted (by the general core) and reported with its standard error.
  * Below first order the reactant runs out in finite time: c = 0 once C^m − m k t ≤ 0.
  */
@@ -16,9 +17,11 @@ export const NTH_ORDER_MAX = 3;
 // accurately for small m and which tends to −k t (first order) as m → 0.
 // The reacting part at τ goes into module scratch (no object per evaluation: this runs
 // for every reading at every iteration).
-let rc = 0, rL = 0, ru = 0, rm = 0, rC = 0, rq = 0;
+let rc = 0, rL = 0, ru = 0, rm = 0, rC = 0, rq = 0, rs = 1;
 function reacting(tau: number, p: Float64Array): void {
-  rC = Math.max(p[A0] - p[AINF], 0);
+  const C = p[A0] - p[AINF];
+  rs = C < 0 ? -1 : 1;
+  rC = Math.abs(C);
   rm = 1 - p[ORDER];
   if (rC === 0) { rc = 0; return; }
   ru = p[K] * tau * (rm === 0 ? 1 : Math.pow(rC, -rm));
@@ -31,12 +34,12 @@ function reacting(tau: number, p: Float64Array): void {
 export const nthOrderLaw: RateLaw = {
   name: 'nth',
   parameterNames: ['k', 'a0', 'aInf', 'n'],
-  value: (tau, p) => { reacting(tau, p); return p[AINF] + rc; },
+  value: (tau, p) => { reacting(tau, p); return p[AINF] + rs * rc; },
   gradient: (tau, p, out) => {
     reacting(tau, p);
     if (rc === 0) { out[K] = 0; out[A0] = 0; out[AINF] = 1; out[ORDER] = 0; return; }
     const c = rc, m = rm, u = ru, q = rq, C = rC;
-    out[K] = (-c * tau * (m === 0 ? 1 : Math.pow(C, -m))) / q;
+    out[K] = (-rs * c * tau * (m === 0 ? 1 : Math.pow(C, -m))) / q;
     const dcdC = c / (C * q);
     out[A0] = dcdC;
     out[AINF] = 1 - dcdC;
@@ -46,13 +49,13 @@ export const nthOrderLaw: RateLaw = {
       ? -0.5 * u * u - (2 / 3) * m * u * u * u - 0.75 * m * m * u * u * u * u
       : (-u / q - rL) / m;
     const dcdm = c * (dLdm + (u * Math.log(C)) / q);
-    out[ORDER] = -dcdm; // n = 1 − m
+    out[ORDER] = -rs * dcdm; // n = 1 − m
   },
   curvature: (tau, p) => {
     // dc/dt = −k c^n, so d²c/dt² = n k² c^(2n−1).
     reacting(tau, p);
     const n = p[ORDER];
-    return rc > 0 ? n * p[K] * p[K] * Math.pow(rc, 2 * n - 1) : 0;
+    return rc > 0 ? rs * n * p[K] * p[K] * Math.pow(rc, 2 * n - 1) : 0;
   },
 };
 

@@ -6,12 +6,12 @@ import { fitZeroOrder, zeroOrderLaw } from './zeroOrder';
 import { fitFirstOrder, firstOrderLaw } from './firstOrder';
 import { fitSecondOrder, secondOrderLaw } from './secondOrder';
 import { fitNthOrder, nthOrderLaw } from './nthOrder';
-import { seriesOf, simulatedSeries } from '../../test/fixtures/simulatedFitSeries';
-import type { ModelFit, RateLaw } from './modelTypes';
+import { fitted, seriesOf, simulatedSeries } from '../../test/fixtures/simulatedFitSeries';
+import type { FittedModel, RateLaw } from './modelTypes';
 
 const base = { aInfMin: -0.03 };
 const demo = (o: Partial<SimulatedRunSpec>): SimulatedRunSpec => ({ ...DEMO_RUN, ...o });
-const se = (f: ModelFit, j: number): number => Math.sqrt(f.covariance[j * f.params.length + j]);
+const se = (f: FittedModel, j: number): number => Math.sqrt(f.covariance[j * f.params.length + j]);
 
 /**
  * Independent oracle: ml-levenberg-marquardt on the same weighted problem, pre-whitened
@@ -40,7 +40,7 @@ describe('rate-law fits against independent oracles', () => {
   it('zero order equals simple-statistics linearRegression on the unweighted line', () => {
     const spec = demo({ order: 'zero', k: 6.5e-4 });
     const r = simulateRun(spec);
-    const fit = fitZeroOrder(seriesOf(r.time_s, r.absorbance, false), base);
+    const fit = fitted(fitZeroOrder(seriesOf(r.time_s, r.absorbance, false), base));
     // simple-statistics linearRegression (ordinary least squares), an independent implementation
     const ref = linearRegression(Array.from(r.time_s, (t, i) => [t, r.absorbance[i]]));
     expect(fit.params[0]).toBeCloseTo(-ref.m, 12);
@@ -50,10 +50,10 @@ describe('rate-law fits against independent oracles', () => {
     expect(Math.abs(fit.params[0] + linearRegression(nudged).m)).toBeGreaterThan(0.5 * 10 ** -12);
   });
 
-  const cases: { name: string; law: RateLaw; spec: SimulatedRunSpec; fit: () => ModelFit; start: number[]; nFree?: number }[] = [
-    { name: 'first', law: firstOrderLaw, spec: demo({ order: 'first' }), fit: () => fitFirstOrder(simulatedSeries(demo({ order: 'first' })), base), start: [0.002, 0.6, 0.01] },
-    { name: 'second', law: secondOrderLaw, spec: demo({ order: 'second', k: 7.8e-3 }), fit: () => fitSecondOrder(simulatedSeries(demo({ order: 'second', k: 7.8e-3 })), base), start: [0.005, 0.6, 0.01] },
-    { name: 'zero (weighted)', law: zeroOrderLaw, spec: demo({ order: 'zero', k: 6.5e-4 }), fit: () => fitZeroOrder(simulatedSeries(demo({ order: 'zero', k: 6.5e-4 })), base), start: [0.001, 0.6, 0], nFree: 2 },
+  const cases: { name: string; law: RateLaw; spec: SimulatedRunSpec; fit: () => FittedModel; start: number[]; nFree?: number }[] = [
+    { name: 'first', law: firstOrderLaw, spec: demo({ order: 'first' }), fit: () => fitted(fitFirstOrder(simulatedSeries(demo({ order: 'first' })), base)), start: [0.002, 0.6, 0.01] },
+    { name: 'second', law: secondOrderLaw, spec: demo({ order: 'second', k: 7.8e-3 }), fit: () => fitted(fitSecondOrder(simulatedSeries(demo({ order: 'second', k: 7.8e-3 })), base)), start: [0.005, 0.6, 0.01] },
+    { name: 'zero (weighted)', law: zeroOrderLaw, spec: demo({ order: 'zero', k: 6.5e-4 }), fit: () => fitted(fitZeroOrder(simulatedSeries(demo({ order: 'zero', k: 6.5e-4 })), base)), start: [0.001, 0.6, 0], nFree: 2 },
   ];
   for (const c of cases) {
     it(`${c.name} order matches ml-levenberg-marquardt within 0.05 standard errors`, () => {
@@ -68,8 +68,8 @@ describe('rate-law fits against independent oracles', () => {
   }
 
   it('n-th order finds n near 1 on first-order data and near 2 on second-order data, with n within 3 SE', () => {
-    const f1 = fitNthOrder(simulatedSeries(demo({ order: 'first' })), { ...base, start: Float64Array.from([0.003, 0.65, 0.005, 1.3]) });
-    const f2 = fitNthOrder(simulatedSeries(demo({ order: 'second', k: 7.8e-3 })), { ...base, start: Float64Array.from([0.003, 0.65, 0.005, 1.3]) });
+    const f1 = fitted(fitNthOrder(simulatedSeries(demo({ order: 'first' })), { ...base, start: Float64Array.from([0.003, 0.65, 0.005, 1.3]) }));
+    const f2 = fitted(fitNthOrder(simulatedSeries(demo({ order: 'second', k: 7.8e-3 })), { ...base, start: Float64Array.from([0.003, 0.65, 0.005, 1.3]) }));
     expect(Math.abs(f1.params[3] - 1)).toBeLessThan(3 * se(f1, 3));
     expect(Math.abs(f2.params[3] - 2)).toBeLessThan(3 * se(f2, 3));
     expect(se(f1, 3)).toBeLessThan(0.05);
@@ -77,10 +77,10 @@ describe('rate-law fits against independent oracles', () => {
 
   it('recovers the simulated k of each order within 3 standard errors', () => {
     // the simulator's true values are the reference: a correct fit lands within ~3 SE
-    const runs: [ModelFit, number][] = [
-      [fitZeroOrder(simulatedSeries(demo({ order: 'zero', k: 6.5e-4 })), base), 6.5e-4],
-      [fitFirstOrder(simulatedSeries(demo({ order: 'first' })), base), 3.5e-3],
-      [fitSecondOrder(simulatedSeries(demo({ order: 'second', k: 7.8e-3 })), base), 7.8e-3],
+    const runs: [FittedModel, number][] = [
+      [fitted(fitZeroOrder(simulatedSeries(demo({ order: 'zero', k: 6.5e-4 })), base)), 6.5e-4],
+      [fitted(fitFirstOrder(simulatedSeries(demo({ order: 'first' })), base)), 3.5e-3],
+      [fitted(fitSecondOrder(simulatedSeries(demo({ order: 'second', k: 7.8e-3 })), base)), 7.8e-3],
     ];
     for (const [fit, k] of runs) expect(Math.abs(fit.params[0] - k)).toBeLessThan(3 * se(fit, 0));
   });

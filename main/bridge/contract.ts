@@ -12,6 +12,7 @@
  * fit window are in time after mixing, t = time_s − timeZero_s.
  */
 import { z } from 'zod';
+import { AnalysisResultSchema } from '../../kinetics/analysisSchema';
 import { RejectReasonSchema, sourceStatusSchema } from '../../acquisition/sources/sourceStatus';
 
 export const CONTRACT_VERSION = 1;
@@ -155,57 +156,10 @@ export type BridgeRequest = z.infer<typeof RequestSchema>;
 export type RequestType = BridgeRequest['type'];
 export type RequestOf<T extends RequestType> = Extract<BridgeRequest, { type: T }>;
 
-// ---------------------------------------------------------------- analysis result (mirrors kinetics/analysisTypes.ts)
+// ---------------------------------------------------------------- analysis result (declared once, in kinetics/analysisSchema.ts)
 
+export { AnalysisResultSchema };
 const nullableNum = z.number().nullable();
-const ci = z.tuple([finite, finite]).nullable();
-const ModelSummarySchema = z.object({
-  k: nullableNum, kStdErr: nullableNum, kCI95: ci,
-  a0: nullableNum, a0StdErr: nullableNum,
-  aInf: nullableNum, aInfStdErr: nullableNum, aInfFixed: z.boolean(),
-  halfLife_s: nullableNum, halfLifeStdErr_s: nullableNum,
-  aicc: nullableNum, rss: nullableNum, chiSquare: nullableNum, dof: nullableNum,
-  runsTestP: nullableNum, converged: z.boolean(), warnings: z.array(z.string()).max(LIMITS.maxWarnings),
-});
-const order = z.enum(['zero', 'first', 'second']);
-export const AnalysisResultSchema = z.object({
-  points: nonNegInt,
-  duration_s: finite,
-  pointsInWindow: nonNegInt,
-  window: z.object({ from_s: nullableNum, to_s: nullableNum }),
-  verdict: z.object({
-    order: z.enum(['zero', 'first', 'second', 'undecided']),
-    weights: z.object({ zero: nullableNum, first: nullableNum, second: nullableNum }),
-    reason: z.string(),
-  }),
-  models: z.object({
-    zero: ModelSummarySchema, first: ModelSummarySchema, second: ModelSummarySchema,
-    nth: ModelSummarySchema.extend({ order: nullableNum, orderStdErr: nullableNum }),
-  }),
-  drivingModel: order,
-  halfLivesElapsed: nullableNum,
-  fractionConverted: nullableNum,
-  targetHalfLives: finite,
-  stop: z.object({
-    state: z.enum(['gathering', 'estimating', 'settled', 'farEnough']),
-    suggested: z.boolean(),
-    atTime_s: nullableNum,
-    predictedAt_s: nullableNum,
-    predictedAtStdErr_s: nullableNum,
-    earlyStopPossible: z.boolean(),
-    kRelCI95Now: nullableNum,
-    kRelCI95AtTarget: nullableNum,
-    reason: z.string(),
-  }),
-  outliers: z.array(nonNegInt),
-  units: z.object({
-    time: z.literal('s'),
-    signal: z.string(),
-    k: z.object({ zero: z.string(), first: z.string(), second: z.string(), nth: z.string() }),
-  }),
-  warnings: z.array(z.string()).max(LIMITS.maxWarnings),
-  uncertaintyNote: z.string(),
-});
 export type AnalysisResultView = z.infer<typeof AnalysisResultSchema>;
 
 // ---------------------------------------------------------------- state and events

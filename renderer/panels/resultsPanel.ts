@@ -10,7 +10,14 @@ import { ciHalfWidth, formatInterval, formatPlusMinus, prettyUnit, roundWithUnce
 import type { ScreenState } from '../store';
 import { CURVE_STYLE } from './runChart';
 
-const ORDER_WORDS = { zero: 'zero order', first: 'first order', second: 'second order', undecided: 'undecided' } as const;
+function verdictWords(v: AnalysisResultView['verdict']): string {
+  if (v.order === 'undecided') return 'Order: undecided so far';
+  if (v.order === 'noSimpleLaw') return 'Order: the readings do not follow a simple rate law';
+  if (v.order === 'fractional') return `Order: about ${v.fractionalOrder === null ? '?' : v.fractionalOrder.toFixed(1)}, not an integer order`;
+  return `Order: ${ORDER_WORDS[v.order]}`;
+}
+
+const ORDER_WORDS = { zero: 'zero order', first: 'first order', second: 'second order', nth: 'n-th order', undecided: 'undecided' } as const;
 
 export interface ResultsPanel {
   element: HTMLElement;
@@ -60,7 +67,8 @@ export function createResultsPanel(): ResultsPanel {
         for (const r of Object.values(rows)) { setText(r.value, '—'); r.fill.style.width = '0%'; }
         return;
       }
-      const model = a.verdict.order === 'undecided' ? a.drivingModel : a.verdict.order;
+      const model = a.drivingModel;
+      const decided = a.verdict.order === model || a.verdict.order === 'fractional';
       const m = a.models[model];
       // The mantissa large, the power of ten with the unit beneath: it reads across a room.
       const unc = ciHalfWidth(m.kCI95) ?? m.kStdErr;
@@ -70,14 +78,14 @@ export function createResultsPanel(): ResultsPanel {
         setText(kValue, r.uncertainty ? `${r.value} ± ${r.uncertainty}` : r.value);
         setText(kUnit, `${r.exponent ? `× 10${superscript(r.exponent)} ` : ''}${prettyUnit(a.units.k[model])}`);
       }
-      setText(kModel, a.verdict.order === 'undecided'
+      setText(kModel, !decided
         ? `${ORDER_WORDS[model]}, assumed while the order is undecided; ± is the 95 % CI half-width`
         : `${ORDER_WORDS[model]} fit; ± is the 95 % CI half-width`);
       setText(kCI, `95 % CI: ${formatInterval(m.kCI95)} ${prettyUnit(a.units.k[model])}`);
       setText(halfLife, m.halfLife_s !== null
         ? `Half-life: ${formatPlusMinus(m.halfLife_s, m.halfLifeStdErr_s !== null ? 1.96 * m.halfLifeStdErr_s : null)} s (95 %)${model === 'first' ? '' : ', at the starting signal'}`
         : 'Half-life: not available yet');
-      setText(verdict, a.verdict.order === 'undecided' ? 'Order: undecided so far' : `Order: ${ORDER_WORDS[a.verdict.order]}`);
+      setText(verdict, verdictWords(a.verdict));
       setText(reason, a.verdict.reason);
       for (const name of ['zero', 'first', 'second'] as const) {
         const w = a.verdict.weights[name];

@@ -186,7 +186,7 @@ export { CURVE_STYLE };
 function drawCurves(u: uPlot, input: ChartInput, frame: ChartFrame, px: number): void {
   const a = input.analysis;
   if (!a) return;
-  const chosen = a.verdict.order === 'undecided' ? a.drivingModel : a.verdict.order;
+  const chosen = a.drivingModel;
   const ctx = u.ctx;
   const x0 = Math.max(u.bbox.left, u.valToPos(frame.windowFrom, 'x', true));
   const x1 = Math.min(u.bbox.left + u.bbox.width, u.valToPos(frame.windowTo, 'x', true));
@@ -202,7 +202,7 @@ function drawCurves(u: uPlot, input: ChartInput, frame: ChartFrame, px: number):
     // One evaluation every two device pixels: smooth at any zoom, a few hundred per curve.
     for (let x = x0; x <= x1 + 0.5; x += 2 * px) {
       const t = u.posToVal(Math.min(x, x1), 'x', true);
-      const v = viewValue(input.view, curveAbsorbance(p, t), frame.baseline);
+      const v = viewValue(input.view, curveAbsorbance(p, t), frame.baseline, a.direction === 'rising');
       if (v === null || !Number.isFinite(v)) { pen = false; continue; }
       const y = u.valToPos(v, 'y', true);
       if (pen) ctx.lineTo(x, y); else ctx.moveTo(x, y);
@@ -224,7 +224,7 @@ function drawOutliers(u: uPlot, input: ChartInput, frame: ChartFrame, px: number
     // The analyzer counts from the first reading at or after time zero.
     const i = fed + frame.firstFedIndex;
     if (i >= input.readings.count) continue;
-    const v = viewValue(input.view, input.readings.absorbance[i]!, frame.baseline);
+    const v = viewValue(input.view, input.readings.absorbance[i]!, frame.baseline, input.analysis?.direction === 'rising');
     if (v === null) continue;
     const x = u.valToPos(input.readings.time_s[i]! - zero, 'x', true);
     const y = u.valToPos(v, 'y', true);

@@ -145,10 +145,11 @@ function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string
   const first = r.models.first;
   const w = r.verdict.weights;
   const firstBest = w.first !== null && w.first >= (w.zero ?? 0) && w.first >= (w.second ?? 0);
-  if (r.verdict.order !== 'first' && !(r.verdict.order === 'undecided' && firstBest)) {
+  const open = r.verdict.order === 'undecided' || r.verdict.order === 'noSimpleLaw';
+  if (r.verdict.order !== 'first' && !(open && firstBest)) {
     return { reason: `its order is ${r.verdict.order} (${r.verdict.reason}), not first` };
   }
-  const note = r.verdict.order === 'undecided' ? `its order is undecided (${r.verdict.reason}); first order fits it best and is used` : undefined;
+  const note = open ? `its order is ${r.verdict.order === 'undecided' ? 'undecided' : 'not a simple rate law'} (${r.verdict.reason}); first order fits it best and is used` : undefined;
   if (r.stop.state !== 'settled' && r.stop.state !== 'farEnough') return { reason: `k has not settled (${r.stop.reason}); record it longer` };
   if (first.k === null || first.kStdErr === null || !(first.k > 0)) return { reason: 'the first-order fit gave no k with a standard error' };
   return note === undefined ? { k: first.k, se: first.kStdErr } : { k: first.k, se: first.kStdErr, note };

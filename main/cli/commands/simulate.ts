@@ -19,7 +19,7 @@ const HELP = `usage: rateline simulate [options] --out FILE.csv
   --k K          rate constant (default: the demo's 3.5e-3 s^-1 for first order; for other
                  orders, the k that gives the demo's half-life at the same A0 and A∞)
   --a0 A         absorbance at mixing (default 0.65)
-  --a-inf A      end absorbance (default 0.005)
+  --a-inf A      end absorbance (default 0.005; above --a0 for a product-forming run)
   --noise-t S    transmittance noise σ_T (default 0.001)
   --dt S         sampling interval in s (default 1)
   --duration S   run length in s (default 900)
@@ -60,7 +60,8 @@ export async function run(argv: string[]): Promise<number> {
   const order = parseOrder(args.value('order'));
   const a0 = args.number('a0', (x) => x > 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.a0;
   const aInf = args.number('a-inf', (x) => x >= 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.aInf;
-  if (!(aInf < a0)) throw new InputError(`rateline simulate: --a-inf ${aInf} is not below --a0 ${a0}; the absorbance must fall as the dye reacts.`);
+  // Above --a0 is a product-forming run (the absorbance rises to its plateau); equal is no reaction at all.
+  if (aInf === a0) throw new InputError(`rateline simulate: --a-inf ${aInf} equals --a0 ${a0}; nothing would react: give an end absorbance below (reactant used up) or above (product formed) the start.`);
   const k = args.number('k', (x) => x > 0, 'a positive rate constant') ?? demoK(order, a0, aInf);
   const sigmaT = args.number('noise-t', (x) => x >= 0 && x < 0.1, 'a transmittance noise between 0 and 0.1') ?? DEMO_RUN.sigmaT;
   const dt_s = args.number('dt', (x) => x > 0, 'a positive interval in seconds') ?? DEMO_RUN.dt_s;

@@ -3,7 +3,7 @@
  * so that their AICc values can be compared: χ² over all readings, covariance from
  * the analytic Jacobian (JᵀWJ)⁻¹ scaled by the reduced χ², degrees of freedom and AICc.
  */
-import type { FitSeries, ModelFit, RateLaw } from './modelTypes';
+import type { BoundSide, FailedModelFit, FitSeries, ModelFit, RateLaw } from './modelTypes';
 import type { ModelName } from '../analysisTypes';
 
 /** Prediction of a pseudo-point: the mean of f over its bin, f(τ̄) + ½ f''(τ̄) v. */
@@ -97,16 +97,26 @@ export function aiccOf(chiSquare: number, readings: number, freeCount: number): 
   return n * Math.log(chiSquare / n) + 2 * p + (2 * p * (p + 1)) / (n - p - 1);
 }
 
-/** Said when the end absorbance sits on its lower bound: the run has not yet shown where the curve ends. */
-export function aInfAtFloorWarning(model: ModelName, aInf: number): string {
-  return `${model} order: the end signal A∞ sits on its lower bound (${aInf.toPrecision(3)}); the run has not yet shown where the curve levels off, so k is still loosely fixed`;
+/** Said when the end signal sits on a bound: the run has not yet shown where the curve ends. */
+export function aInfAtBoundWarning(model: ModelName, aInf: number, side: 'lower' | 'upper'): string {
+  return `${model} order: the end signal A∞ sits on its ${side} bound (${aInf.toPrecision(3)}); the run has not yet shown where the curve levels off, so k is still loosely fixed and its interval is widened`;
 }
 
-/** Assembles the fit's report at the final parameters. */
+/** A fit that could not be had, with its one reason. */
+export function failedModelFit(model: ModelName, reason: string, warnings: string[] = []): FailedModelFit {
+  return { model, ok: false, reason, warnings: [...warnings, reason] };
+}
+
+/** Assembles the fit's report at the final parameters, or the reason there is none. */
 export function finishFit(
   model: ModelName, law: RateLaw, s: FitSeries, p: Float64Array, free: boolean[],
-  converged: boolean, warnings: string[],
+  converged: boolean, warnings: string[], aInfAtBound: BoundSide = null,
 ): ModelFit {
+  if (!p.every(Number.isFinite)) return failedModelFit(model, `${model} order: the fit did not reach finite parameters`, warnings);
+  if (!converged) return failedModelFit(model, `${model} order: the fit did not converge`, warnings);
+  const nFree = free.filter(Boolean).length;
+  const dof = s.readings - nFree - s.multiBins;
+  if (dof <= 0) return failedModelFit(model, `${model} order: too few readings for ${nFree} parameters`, warnings);
   const residuals = new Float64Array(s.count);
   let chiPseudo = 0, rssPseudo = 0;
   for (let i = 0; i < s.count; i++) {
@@ -115,20 +125,13 @@ export function finishFit(
     chiPseudo += s.w[i] * r * r;
     rssPseudo += s.n[i] * r * r;
   }
-  const nFree = free.filter(Boolean).length;
   const chiSquare = chiPseudo + s.withinChiSquare;
-  const dof = s.readings - nFree - s.multiBins;
   const info = informationMatrix(law, s, p, free);
-  let covariance: Float64Array = new Float64Array(p.length * p.length);
-  let ok = converged && dof > 0 && p.every(Number.isFinite);
-  if (ok && invertSymmetric(info, nFree)) {
-    covariance = expandCovariance(info, free, chiSquare / dof);
-  } else {
-    ok = false;
-    warnings.push('the fit could not estimate its uncertainties (too few points or parameters not determined)');
+  if (!invertSymmetric(info, nFree)) {
+    return failedModelFit(model, `${model} order: the fit could not estimate its uncertainties (parameters not determined by these readings)`, warnings);
   }
   return {
-    model, ok, params: p, free, covariance, chiSquare, rss: rssPseudo + s.withinRss, dof,
-    aicc: aiccOf(chiSquare, s.readings, nFree), residuals, converged, warnings,
+    model, ok: true, params: p, free, covariance: expandCovariance(info, free, chiSquare / dof), chiSquare,
+    rss: rssPseudo + s.withinRss, dof, aicc: aiccOf(chiSquare, s.readings, nFree), residuals, converged, aInfAtBound, warnings,
   };
 }
