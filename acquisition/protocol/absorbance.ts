@@ -6,6 +6,7 @@
  */
 import { ReadingFlag } from '../sources/sourceTypes';
 import { studentTQuantile } from '../../kinetics/fit/studentT';
+import { READABLE_RANGE_AU } from '../../kinetics/endValueBounds';
 
 export interface CountsLimits {
   /** Detector full scale (counts); a 16-bit converter by default. */
@@ -26,12 +27,12 @@ export const DEFAULT_COUNTS_LIMITS: Readonly<CountsLimits> = Object.freeze({
 });
 
 /**
- * What any photometer can read, in AU: below −1 (the sample passing ten times the blank's
+ * What any photometer can read, in AU (the one range, kinetics/endValueBounds.ts): below −1 (the sample passing ten times the blank's
  * light) or above 10 (one part in 10¹⁰ getting through) no instrument measures; a number
  * out there is a corrupted line or a wrong column, never an absorbance. Readings are
  * refused outside it (`absorbanceRange`), long before the fits would be wrecked.
  */
-export const READABLE_RANGE_AU: readonly [number, number] = Object.freeze([-1, 10]) as readonly [number, number];
+export { READABLE_RANGE_AU };
 
 /** Why an absorbance cannot be a reading (outside READABLE_RANGE_AU), or null when it can. */
 export function readableAbsorbanceProblem(absorbance_AU: number): string | null {

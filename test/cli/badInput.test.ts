@@ -86,7 +86,7 @@ describe('a run that makes no sense is refused in one sentence, not fitted', () 
     refused(rateline('analyze', 'flat.csv'), /^flat\.csv: nothing seems to be reacting: the signal has changed by .* over 900 s, less than 3× the noise .*; check the mixing and the wavelength\.$/);
     refused(rateline('analyze', 'flat.csv', '--format', 'json'), /^flat\.csv: nothing seems to be reacting/);
     // A signal exactly constant: no fit at all, said as such (or as nothing reacting).
-    refused(rateline('analyze', file('constant.csv', csv(50, (i) => [i, 0.5]))), /^constant\.csv: (nothing seems to be reacting|no rate law could be fitted to these readings)/);
+    refused(rateline('analyze', file('constant.csv', csv(50, (i) => [i, 0.5]))), /^constant\.csv: nothing seems to be reacting/);
   });
 
   it('a comma-separated file with decimal commas is refused, not read as absorbance 0', () => {
