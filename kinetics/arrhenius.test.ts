@@ -50,11 +50,13 @@ describe('Arrhenius fit', () => {
     expect(Math.abs(r.activationEnergy_kJPerMol - 48)).toBeLessThan(0.5);
   });
 
-  // Negative control: Celsius in place of kelvin gives a very different (wrong) Ea.
-  it('negative control: 1/t in °C does not reproduce Ea', () => {
+  // Negative control: the fit given the temperatures in the wrong unit (°C read as kelvin) misses Ea.
+  it('negative control: the Ea check fails when °C are taken for kelvin', () => {
     const runs = demoRuns();
-    const wrong = linearRegression(runs.map((p) => [1 / p.temperature_C, Math.log(p.k)]));
-    expect(Math.abs((-wrong.m * R) / 1000 - 48)).toBeGreaterThan(10);
+    const eaNear48 = (r: ReturnType<typeof arrheniusFit>): boolean => r.ok && Math.abs(r.activationEnergy_kJPerMol - 48) < 0.5;
+    expect(eaNear48(arrheniusFit(runs))).toBe(true);
+    // temperature_C − 273.15 is what the fit sees when a °C value is read as a kelvin one
+    expect(eaNear48(arrheniusFit(runs.map((p) => ({ ...p, temperature_C: p.temperature_C - 273.15 }))))).toBe(false);
   });
 
   it('says what is wrong with unusable input', () => {

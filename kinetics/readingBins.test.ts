@@ -44,7 +44,7 @@ describe('bins of sufficient statistics', () => {
     for (let j = 0; j < nb; j++) { readings += s.n[j]; ySum += s.y[j] * s.w[j]; }
     expect(readings).toBe(total);
     expect(ySum).toBeCloseTo(sum, 6);
-    // negative control: the bins are in time order
+    // and the bins are in time order
     for (let j = 1; j < nb; j++) expect(s.tau_s[j]).toBeGreaterThan(s.tau_s[j - 1]);
   });
 });

@@ -3,11 +3,15 @@
  * WebSocket, for a browser on this computer only. No logic of its own: requests go
  * to the bench service, events come back.
  *
- * Security model, in short: bound to 127.0.0.1; a random token per launch on every
- * HTTP request (query `token`, header `x-rateline-token`, or the HttpOnly SameSite=Strict
- * cookie set when the page is opened with the token) and on the socket; the Host header
- * must name this host (DNS rebinding); the socket's Origin must be this host's own;
- * request bodies and socket messages capped; a strict Content-Security-Policy.
+ * Security model, in short: bound to 127.0.0.1; the Host header must name this host
+ * (DNS rebinding) on every request; the built screens (index.html, scripts, styles) are
+ * public files and served without the token, confined to their folder by real path;
+ * every request that reads or changes anything (`/api/…`) carries the random per-launch
+ * token in a header, and the socket's first message carries it (no event or reply before
+ * it); the socket's Origin must be this host's own; request bodies and socket messages
+ * capped; a strict Content-Security-Policy. The token is never put in a cookie, since a
+ * browser sends 127.0.0.1's cookies to every port on it (another local program, or a
+ * second Rateline, would receive it); the page keeps it in memory only.
  */
 import { randomBytes, timingSafeEqual } from 'node:crypto';
 import { createServer, type IncomingMessage, type Server, type ServerResponse } from 'node:http';
@@ -15,7 +19,7 @@ import type { AddressInfo } from 'node:net';
 import type { Duplex } from 'node:stream';
 import { WebSocketServer, type WebSocket } from 'ws';
 import {
-  ClientMessageSchema, LIMITS, SOCKET_PATH, TOKEN_HEADER, TOKEN_PARAM, describeIssue,
+  ClientMessageSchema, HELLO_TIMEOUT_MS, HelloMessageSchema, LIMITS, SOCKET_CLOSE, SOCKET_PATH, TOKEN_HEADER, TOKEN_PARAM, describeIssue,
   type AnyReply, type BridgeEvent, type ServerMessage,
 } from './bridge/contract';
 import { serveStatic } from './web/staticFiles';
@@ -34,6 +38,8 @@ export interface WebHostOptions {
   staticDir: string | null;
   /** Fixed token for tests; a random one per launch otherwise. */
   token?: string;
+  /** How long a socket may wait before its first message (the token); HELLO_TIMEOUT_MS by default. */
+  helloTimeout_ms?: number;
 }
 
 export interface WebHost {
@@ -44,7 +50,6 @@ export interface WebHost {
   close(): Promise<void>;
 }
 
-export const TOKEN_COOKIE = 'rateline_token';
 /** A client that cannot keep up (socket buffer past this) is disconnected rather than let memory grow. */
 const MAX_SOCKET_BUFFER_BYTES = 64 * 1024 * 1024;
 
@@ -63,14 +68,6 @@ function tokenMatches(given: string | null | undefined, token: string): boolean 
   return a.length === b.length && timingSafeEqual(a, b);
 }
 
-function cookieToken(req: IncomingMessage): string | null {
-  for (const part of (req.headers.cookie ?? '').split(';')) {
-    const [k, ...v] = part.trim().split('=');
-    if (k === TOKEN_COOKIE) return v.join('=');
-  }
-  return null;
-}
-
 export async function startWebHost(opts: WebHostOptions): Promise<WebHost> {
   const token = opts.token ?? randomBytes(24).toString('base64url');
   const server: Server = createServer();
@@ -84,11 +81,8 @@ export async function startWebHost(opts: WebHostOptions): Promise<WebHost> {
   const allowedOrigins = new Set([origin, `http://localhost:${port}`]);
   const csp = contentSecurityPolicy(origin);
 
-  const authorised = (req: IncomingMessage, url: URL): boolean =>
-    allowedHosts.has(req.headers.host ?? '') &&
-    (tokenMatches(url.searchParams.get(TOKEN_PARAM), token) ||
-      tokenMatches(req.headers[TOKEN_HEADER] as string | undefined, token) ||
-      tokenMatches(cookieToken(req), token));
+  const hostAllowed = (req: IncomingMessage): boolean => allowedHosts.has(req.headers.host ?? '');
+  const tokenGiven = (req: IncomingMessage): boolean => tokenMatches(req.headers[TOKEN_HEADER] as string | undefined, token);
 
   const refuse = (res: ServerResponse, status: number, text: string): void => {
     res.writeHead(status, { 'content-type': 'text/plain; charset=utf-8', 'cache-control': 'no-store', 'content-security-policy': csp });
@@ -103,17 +97,16 @@ export async function startWebHost(opts: WebHostOptions): Promise<WebHost> {
     res.setHeader('x-frame-options', 'DENY');
     res.setHeader('cross-origin-opener-policy', 'same-origin');
     res.setHeader('cross-origin-resource-policy', 'same-origin');
-    if (!authorised(req, url)) return refuse(res, 403, 'forbidden: open the address printed by "rateline serve", token included.');
-    // A browser names the page a write came from: none but our own may send one.
-    const from = req.headers.origin;
-    if (req.method !== 'GET' && req.method !== 'HEAD' && from !== undefined && !allowedOrigins.has(from)) {
-      return refuse(res, 403, 'forbidden: requests come from the Rateline page only.');
+    if (!hostAllowed(req)) return refuse(res, 403, 'forbidden: open the address printed by "rateline serve", token included.');
+    if (url.pathname === '/api' || url.pathname.startsWith('/api/')) {
+      // Everything that reads or changes the bench: the token in its header, from our own page only.
+      if (!tokenGiven(req)) return refuse(res, 403, `forbidden: requests to the bench service carry the token (header ${TOKEN_HEADER}) from the address "rateline serve" printed.`);
+      const from = req.headers.origin;
+      if (from !== undefined && !allowedOrigins.has(from)) return refuse(res, 403, 'forbidden: requests come from the Rateline page only.');
+      if (url.pathname === '/api/request') return void handlePost(req, res, opts.service, refuse);
+      return refuse(res, 404, 'not found.');
     }
-    if (tokenMatches(url.searchParams.get(TOKEN_PARAM), token)) {
-      // The page's scripts and styles are fetched without the query; the cookie carries the token for them.
-      res.setHeader('set-cookie', `${TOKEN_COOKIE}=${token}; HttpOnly; SameSite=Strict; Path=/`);
-    }
-    if (url.pathname === '/api/request') return void handlePost(req, res, opts.service, refuse);
+    // The built screens are public files: the page itself carries no data, and it asks for the token before anything else.
     if (req.method !== 'GET' && req.method !== 'HEAD') return refuse(res, 405, 'method not allowed: the screens are read with GET only.');
     void serveStatic(opts.staticDir, url.pathname, req.method === 'HEAD', res, refuse);
   });
@@ -121,13 +114,14 @@ export async function startWebHost(opts: WebHostOptions): Promise<WebHost> {
   const wss = new WebSocketServer({ noServer: true, maxPayload: LIMITS.maxRequestBytes });
   server.on('upgrade', (req: IncomingMessage, socket: Duplex, head: Buffer) => {
     const url = new URL(req.url ?? '/', origin);
-    const ok = url.pathname === SOCKET_PATH && authorised(req, url) && allowedOrigins.has(req.headers.origin ?? '');
+    // The token comes in the socket's first message (attachSocket); the opening is checked for where it comes from.
+    const ok = url.pathname === SOCKET_PATH && hostAllowed(req) && allowedOrigins.has(req.headers.origin ?? '');
     if (!ok) {
       socket.end('HTTP/1.1 403 Forbidden\r\nConnection: close\r\nContent-Length: 0\r\n\r\n');
       socket.destroy();
       return;
     }
-    wss.handleUpgrade(req, socket, head, (ws) => attachSocket(ws, opts.service));
+    wss.handleUpgrade(req, socket, head, (ws) => attachSocket(ws, opts.service, token, opts.helloTimeout_ms ?? HELLO_TIMEOUT_MS));
   });
 
   return {
@@ -144,7 +138,7 @@ export async function startWebHost(opts: WebHostOptions): Promise<WebHost> {
   };
 }
 
-function attachSocket(ws: WebSocket, service: BridgeService): void {
+function attachSocket(ws: WebSocket, service: BridgeService, token: string, helloTimeout_ms: number): void {
   // The catch-up (a whole run so far) is sent at once and may pass the cap; live events may not.
   const send = (msg: ServerMessage, catchingUp = false): void => {
     if (ws.readyState !== ws.OPEN) return;
@@ -154,11 +148,32 @@ function attachSocket(ws: WebSocket, service: BridgeService): void {
     }
     ws.send(JSON.stringify(msg));
   };
-  service.catchUp((event) => send({ kind: 'event', event }, true));
-  const unsubscribe = service.subscribe((event) => send({ kind: 'event', event }));
-  ws.on('close', unsubscribe);
+  let unsubscribe: (() => void) | null = null;
+  // Nothing reaches the socket before its first message has shown the token.
+  const helloTimer = setTimeout(() => ws.close(SOCKET_CLOSE.noToken, 'no token: the first message must carry it'), helloTimeout_ms);
+  helloTimer.unref?.();
+  ws.on('close', () => {
+    clearTimeout(helloTimer);
+    unsubscribe?.();
+  });
   ws.on('error', () => ws.terminate());
   ws.on('message', (data, isBinary) => {
+    if (unsubscribe === null) {
+      clearTimeout(helloTimer);
+      let hello: unknown = null;
+      try {
+        hello = isBinary ? null : JSON.parse(data.toString());
+      } catch {
+        // Refused below as no token.
+      }
+      const parsed = HelloMessageSchema.safeParse(hello);
+      if (!parsed.success) return void ws.close(SOCKET_CLOSE.noToken, 'no token: the first message must carry it');
+      if (!tokenMatches(parsed.data.token, token)) return void ws.close(SOCKET_CLOSE.wrongToken, 'wrong token: open the address rateline serve printed');
+      send({ kind: 'welcome' });
+      service.catchUp((event) => send({ kind: 'event', event }, true));
+      unsubscribe = service.subscribe((event) => send({ kind: 'event', event }));
+      return;
+    }
     const refuse = (error: string, id: number | null = null): void => send({ kind: 'reply', id, reply: { ok: false, error } });
     if (isBinary) return refuse('message refused: the bridge speaks JSON text, not binary.');
     let parsedJson: unknown;

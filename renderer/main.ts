@@ -31,10 +31,16 @@ function openBridge(): RatelineBridge {
     store.update((d) => { d.link = 'open'; });
     return window.rateline;
   }
-  const token = new URLSearchParams(location.search).get(TOKEN_PARAM) ?? '';
+  // The token stays with this page: out of the address bar (and history) at once, never in a cookie
+  // (those go to every port on 127.0.0.1). The tab's session storage, which belongs to this origin
+  // (port included) alone, keeps it for a reload.
+  const address = new URL(location.href);
+  const token = address.searchParams.get(TOKEN_PARAM) ?? sessionToken() ?? '';
+  sessionToken(token);
+  address.searchParams.delete(TOKEN_PARAM);
+  history.replaceState(null, '', address.pathname + address.search + address.hash);
   const scheme = location.protocol === 'https:' ? 'wss:' : 'ws:';
-  const url = `${scheme}//${location.host}${SOCKET_PATH}?${TOKEN_PARAM}=${encodeURIComponent(token)}`;
-  const bridge = socketBridge(url, (u) => {
+  const bridge = socketBridge(`${scheme}//${location.host}${SOCKET_PATH}`, token, (u) => {
     const ws = new WebSocket(u);
     ws.addEventListener('close', () => store.update((d) => { d.link = 'lost'; }));
     return ws;
@@ -44,6 +50,17 @@ function openBridge(): RatelineBridge {
     () => store.update((d) => { d.link = 'lost'; }),
   );
   return bridge;
+}
+
+/** The token kept for a reload of this tab: read it, or keep `value`. Storage may be refused; then a reload needs the address again. */
+function sessionToken(value?: string): string | null {
+  try {
+    if (value === undefined) return sessionStorage.getItem('rateline-token');
+    if (value !== '') sessionStorage.setItem('rateline-token', value);
+  } catch {
+    // No storage in this browser: nothing kept.
+  }
+  return null;
 }
 
 const bridge = openBridge();

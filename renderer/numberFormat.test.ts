@@ -6,11 +6,16 @@ import {
 describe('numbers with uncertainties', () => {
   // common practice (reporting measurements): uncertainty to two significant figures,
   // the value rounded to the same decimal place.
+  const cases: Array<[number, number, string]> = [
+    [212.347, 13.9, '212 ± 14'],
+    [0.0035012, 0.0000723, '(3.501 ± 0.072) × 10⁻³'],
+    [1.02345, 0.0311, '1.023 ± 0.031'],
+    [-0.0123, 0.0045, '−0.0123 ± 0.0045'],
+  ];
+  const misses = (format: (value: number, u: number) => string): number => cases.filter(([v, u, want]) => format(v, u) !== want).length;
+
   it('rounds the value where its uncertainty\'s second figure falls', () => {
-    expect(formatPlusMinus(212.347, 13.9)).toBe('212 ± 14');
-    expect(formatPlusMinus(0.0035012, 0.0000723)).toBe('(3.501 ± 0.072) × 10⁻³');
-    expect(formatPlusMinus(1.02345, 0.0311)).toBe('1.023 ± 0.031');
-    expect(formatPlusMinus(-0.0123, 0.0045)).toBe('−0.0123 ± 0.0045');
+    for (const [v, u, want] of cases) expect(formatPlusMinus(v, u)).toBe(want);
   });
 
   it('shares one power of ten between value and uncertainty', () => {
@@ -18,9 +23,17 @@ describe('numbers with uncertainties', () => {
     expect(r).toEqual({ value: '3.50', uncertainty: '0.12', exponent: -3 });
   });
 
-  // Negative control: a naive toFixed(2) shows digits the uncertainty does not support.
-  it('is not the same as fixed decimals (negative control)', () => {
-    expect(formatPlusMinus(212.347, 13.9)).not.toBe(`${(212.347).toFixed(2)} ± ${(13.9).toFixed(2)}`);
+  // Negative control: the same cases, run against formatters that round the usual wrong ways, fail.
+  it('fails the same cases with fixed decimals or one significant figure (negative control)', () => {
+    expect(misses(formatPlusMinus)).toBe(0);
+    expect(misses((v, u) => `${v.toFixed(2)} ± ${u.toFixed(2)}`)).toBe(cases.length);
+    // one significant figure on the uncertainty, the value to the same place
+    const oneFigure = (v: number, u: number): string => {
+      const place = Math.floor(Math.log10(u));
+      const d = Math.max(0, -place);
+      return `${v.toFixed(d)} ± ${u.toFixed(d)}`;
+    };
+    expect(misses(oneFigure)).toBeGreaterThanOrEqual(3); // 212 ± 14 reads the same either way
   });
 
   it('writes a value alone to three figures and a missing one as a dash', () => {

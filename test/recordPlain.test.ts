@@ -72,17 +72,20 @@ describe('rateline record from an instrument printing plain delimited lines', ()
     expect(rec.readings.count).toBe(inRun.length);
     expect(Object.values(rec.end!.rejected).reduce((a, b) => a + b, 0)).toBe(0); // the banner was skipped, not refused
     for (let i = 0; i < inRun.length; i++) {
-      const [t, pct, temp] = inRun[i]!;
+      const [t, , temp] = inRun[i]!;
       expect(rec.readings.t_s[i]).toBe(t);
       expect(rec.readings.cellT_C[i]).toBe(temp);
-      // common practice: A = −log10(T), T = %T / 100
-      expect(rec.readings.absorbance[i]).toBeCloseTo(-Math.log10(pct / 100), 12);
     }
+    // common practice: A = −log10(T), T = %T / 100; the check over every line sent, by `fromPercentT`
+    const agrees = (fromPercentT: (pct: number) => number): boolean =>
+      inRun.every(([, pct], i) => Math.abs(rec.readings.absorbance[i]! - fromPercentT(pct)) < 5e-13);
+    expect(agrees((pct) => -Math.log10(pct / 100))).toBe(true);
     // The demo dye starts near 0.65 AU, so the lines carry real %T values (about 22 %T), not absorbances.
     expect(inRun[0]![1]).toBeGreaterThan(15);
     expect(inRun[0]![1]).toBeLessThan(30);
-    // Negative control: the natural logarithm (a classic slip) is far off.
-    expect(Math.abs(rec.readings.absorbance[0]! + Math.log(inRun[0]![1] / 100))).toBeGreaterThan(0.5);
+    // Negative control: the same check fails on the classic slips, the natural logarithm and %T taken for T.
+    expect(agrees((pct) => -Math.log(pct / 100))).toBe(false);
+    expect(agrees((pct) => -Math.log10(pct))).toBe(false);
     // Negative control for skip=1: read without it, the banner "630	1" is taken for a reading at
     // t = 630 s, and every real line after it goes back in time and is refused.
     const noSkip = new DelimitedReader({ ...parsePlainSpec(SPEC).config, skipLines: 0 });

@@ -9,6 +9,7 @@
  * record's header unchanged.
  */
 import { existsSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { TextDecodingError, decodeUserText } from './textDecoding';
 import { z } from 'zod';
 import type { Calibration } from '../../kinetics/calibration';
 import { calibrationSchema, type RecordCalibration } from '../record/runRecordFormat';
@@ -124,8 +125,9 @@ function firstIssue(error: z.ZodError): string {
 export function readCalibrationFile(path: string): CalibrationFile {
   let text: string;
   try {
-    text = readFileSync(path, 'utf8');
+    text = decodeUserText(readFileSync(path), path).text;
   } catch (err) {
+    if (err instanceof TextDecodingError) throw new CalibrationFileError(err.message);
     const code = (err as NodeJS.ErrnoException).code;
     if (code === 'ENOENT') throw new CalibrationFileError(`${path}: no such file; check the path of the calibration.`);
     if (code === 'EISDIR') throw new CalibrationFileError(`${path}: is a folder; give a calibration file (rateline calibrate --save) or a CSV of standards.`);

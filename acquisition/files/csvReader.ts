@@ -40,14 +40,23 @@ export function csvNumber(cell: string, delimiter: CsvDelimiter): { value: numbe
   let c = cell.trim();
   let decimalComma = false;
   if (delimiter === ';' && c.includes(',') && !c.includes('.')) { c = c.replace(',', '.'); decimalComma = true; }
-  return NUMBER.test(c) ? { value: Number(c), decimalComma } : null;
+  // 1e999 is written like a number but is none a computer holds (it would read as Infinity).
+  return NUMBER.test(c) && Number.isFinite(Number(c)) ? { value: Number(c), decimalComma } : null;
 }
 
 /** The sentence for a cell that should be a number. */
 export function notANumber(file: string, line: number, cell: string, column: string): string {
   const c = cell.trim();
   const shown = c === '' ? 'an empty cell' : `"${c.length > 20 ? c.slice(0, 20) + '…' : c}"`;
-  return `${file} line ${line}: ${shown} in column ${column} is not a number; fix or remove the line.`;
+  const what = NUMBER.test(c.replace(',', '.')) ? 'is too large to be a number a computer holds' : 'is not a number';
+  return `${file} line ${line}: ${shown} in column ${column} ${what}; fix or remove the line.`;
+}
+
+/** A header's names as a message shows them: quoted, each cut to 24 characters, at most eight. */
+export function shownNames(names: readonly string[]): string {
+  const cut = (n: string): string => `"${n.length > 24 ? n.slice(0, 24) + '…' : n}"`;
+  const shown = names.slice(0, 8).map(cut).join(', ');
+  return names.length > 8 ? `${shown} and ${names.length - 8} more` : shown;
 }
 
 export class CsvText {

@@ -6,7 +6,7 @@
  * wanted columns by name. Pure: text in, rows (with their 1-based line numbers) or one
  * sentence naming the file and line out.
  */
-import { CsvText, csvNumber, notANumber, type CsvHeader } from './csvReader';
+import { CsvText, csvNumber, notANumber, shownNames, type CsvHeader } from './csvReader';
 
 export interface NumericTable {
   /** Column names as written in the header, lower-cased and trimmed. */
@@ -40,7 +40,7 @@ export function parseNumericTable(text: string, file: string, columns: readonly 
   for (const c of columns) {
     const at = names.indexOf(c.name.toLowerCase());
     if (at < 0 && !c.optional) {
-      return { ok: false, error: `${file} line ${headerLine}: no "${c.name}" column (the header has ${names.map((n) => `"${n}"`).join(', ')}); name the columns ${hint}.` };
+      return { ok: false, error: `${file} line ${headerLine}: no "${c.name}" column (the header has ${shownNames(names)}); name the columns ${hint}.` };
     }
     index.push(at);
   }
@@ -78,7 +78,7 @@ export function concentrationColumn(names: readonly string[], file: string, head
   const found = CONCENTRATION_COLUMNS.filter((c) => names.includes(c.name));
   if (found.length === 1) return found[0]!;
   if (found.length === 0) {
-    return { error: `${file} line ${headerLine}: no concentration column (the header has ${names.map((n) => `"${n}"`).join(', ')}); name one concentration_M, concentration_mM or concentration_uM.` };
+    return { error: `${file} line ${headerLine}: no concentration column (the header has ${shownNames(names)}); name one concentration_M, concentration_mM or concentration_uM.` };
   }
   return { error: `${file} line ${headerLine}: ${found.length} concentration columns (${found.map((c) => c.name).join(', ')}); keep one.` };
 }

@@ -4,7 +4,8 @@
  * quoting, comma or semicolon separated, with semicolons a decimal comma, # comments).
  * Pure: text in, readings or one error sentence naming the file and line out.
  */
-import { CsvText, csvNumber, notANumber, type CsvDelimiter } from './csvReader';
+import { CsvText, csvNumber, notANumber, shownNames, type CsvDelimiter } from './csvReader';
+import { readableAbsorbanceProblem } from '../protocol/absorbance';
 
 export interface CsvRun {
   time_s: Float64Array;
@@ -24,7 +25,7 @@ export function parseRunCsv(text: string, file: string): CsvParse {
   const ai = names.indexOf('absorbance');
   for (const [col, idx] of [['time_s', ti], ['absorbance', ai]] as const) {
     if (idx < 0) {
-      return { ok: false, error: `${file} line ${headerLine}: no "${col}" column (the header has ${names.map((n) => `"${n}"`).join(', ')}); name the columns time_s and absorbance.` };
+      return { ok: false, error: `${file} line ${headerLine}: no "${col}" column (the header has ${shownNames(names)}); name the columns time_s and absorbance.` };
     }
   }
   const need = Math.max(ti, ai) + 1;
@@ -37,6 +38,8 @@ export function parseRunCsv(text: string, file: string): CsvParse {
     if (!t) return notANumber(file, line, cells[ti]!, 'time_s');
     const a = csvNumber(cells[ai]!, delimiter);
     if (!a) return notANumber(file, line, cells[ai]!, 'absorbance');
+    const unreadable = readableAbsorbanceProblem(a.value);
+    if (unreadable) return `${file} line ${line}: ${unreadable}; check that the column holds absorbance (not %T or counts), or fix or remove the line.`;
     decimalComma ||= t.decimalComma || a.decimalComma;
     if (n > 0 && t.value < time[n - 1]!) {
       return `${file} line ${line}: time goes backwards (${t.value} s after ${time[n - 1]} s); sort the file or remove the line.`;

@@ -5,6 +5,8 @@
 import { readFile } from 'node:fs/promises';
 import { extname } from 'node:path';
 import { parseRunCsv } from './runCsv';
+import { TextDecodingError, decodeUserText } from './textDecoding';
+import { runProblem } from './runPlausibility';
 import { RunRecordError, analysisReadings, parseRunRecord } from '../record/journalReader';
 import { looksLikeRunRecordLine, type RecordCalibration } from '../record/runRecordFormat';
 
@@ -28,8 +30,9 @@ export class RunFileError extends Error {
  * the file. `expected` says what it should have been, e.g. "a run file (.jsonl or .csv)".
  */
 export async function readUserText(path: string, expected = 'a run file (.jsonl or .csv)'): Promise<string> {
+  let bytes: Buffer;
   try {
-    return await readFile(path, 'utf8');
+    bytes = await readFile(path);
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
     if (code === 'ENOENT') throw new RunFileError(`${path}: no such file; check the path.`);
@@ -37,9 +40,24 @@ export async function readUserText(path: string, expected = 'a run file (.jsonl 
     if (code === 'EACCES' || code === 'EPERM') throw new RunFileError(`${path}: not allowed to read it; check the file's permissions.`);
     throw new RunFileError(`${path}: cannot be read (${code ?? String(err)}); check the path and the file's permissions.`);
   }
+  // A byte-order mark or UTF-16, as editors and spreadsheets save text, is read as the same text.
+  try {
+    return decodeUserText(bytes, path).text;
+  } catch (err) {
+    if (err instanceof TextDecodingError) throw new RunFileError(err.message);
+    throw err;
+  }
 }
 
 export async function loadRun(path: string): Promise<LoadedRun> {
+  const run = await readRun(path);
+  // A run that cannot be fitted as it is (times that do not advance, a swapped blank) is said now, in words.
+  const problem = runProblem(run.time_s, run.absorbance, path);
+  if (problem) throw new RunFileError(problem);
+  return run;
+}
+
+async function readRun(path: string): Promise<LoadedRun> {
   const ext = extname(path).toLowerCase();
   const text = await readUserText(path);
   // A run record by its extension or by its header line (a record renamed to .txt is still one).

@@ -32,19 +32,34 @@ describe('delimited reader', () => {
 
   it('converts %T and transmittance to absorbance, and ms or min to s', () => {
     // common practice: A = 2 − log10(%T); by hand, 50 %T is 0.30103 AU and 10 %T is 1 AU
-    const pct = new DelimitedReader({ delimiter: ';', columns: { time: 0, value: 1 }, timeUnit: 'ms', valueUnit: 'percentT', decimalComma: true });
-    const a = pct.parse('1500;50,0');
-    expect(a.kind === 'absorbance' && a.deviceTime_s).toBe(1.5);
-    expect(a.kind === 'absorbance' && a.absorbance).toBeCloseTo(0.30103, 5);
-    const b = pct.parse('2500;10');
-    expect(b.kind === 'absorbance' && b.absorbance).toBeCloseTo(1, 12);
+    const readsPercentT = (reader: DelimitedReader): boolean => {
+      const a = reader.parse('1500;50,0');
+      const b = reader.parse('2500;10');
+      return a.kind === 'absorbance' && a.deviceTime_s === 1.5 && Math.abs(a.absorbance - 0.30103) < 5e-6
+        && b.kind === 'absorbance' && Math.abs(b.absorbance - 1) < 1e-12;
+    };
+    const percentT = { delimiter: ';', columns: { time: 0, value: 1 }, timeUnit: 'ms', decimalComma: true } as const;
+    expect(readsPercentT(new DelimitedReader({ ...percentT, valueUnit: 'percentT' }))).toBe(true);
+    // negative control: the same check on a reader that takes %T for a fraction (or for absorbance) fails
+    expect(readsPercentT(new DelimitedReader({ ...percentT, valueUnit: 'transmittance' }))).toBe(false);
+    expect(readsPercentT(new DelimitedReader({ ...percentT, valueUnit: 'absorbance' }))).toBe(false);
+    const pct = new DelimitedReader({ ...percentT, valueUnit: 'percentT' });
     expect(pct.parse('3000;0')).toMatchObject({ kind: 'rejected', reason: 'nonFinite' });
-    // negative control: reading %T as a fraction would give a very different number
-    expect(-Math.log10(50)).not.toBeCloseTo(0.30103, 1);
     const frac = new DelimitedReader({ delimiter: 'whitespace', columns: { time: 0, value: 1, wavelength: 2 }, timeUnit: 'min', valueUnit: 'transmittance' });
     const c = frac.parse('  2   0.01\t630.5 ');
     expect(c).toMatchObject({ kind: 'absorbance', deviceTime_s: 120, wavelength_nm: 630.5 });
     expect(c.kind === 'absorbance' && c.absorbance).toBeCloseTo(2, 12);
+  });
+
+  it('refuses an absorbance no photometer reads, and a time that leaps ahead of the host clock, each under its own reason', () => {
+    const r = new DelimitedReader({ delimiter: ',', columns: { time: 0, value: 1 }, timeUnit: 's', valueUnit: 'percentT' });
+    expect(r.parse('0,50', 0).kind).toBe('absorbance');
+    // 1e-20 %T is A = 22 AU: nothing reads that; 1e5 %T is A = −3 AU, a sample ten times brighter than the blank and more.
+    expect(r.parse('1,1e-20', 1000)).toMatchObject({ kind: 'rejected', reason: 'absorbanceRange' });
+    expect(r.parse('2,1e5', 2000)).toMatchObject({ kind: 'rejected', reason: 'absorbanceRange' });
+    expect(r.parse('1e15,50', 3000)).toMatchObject({ kind: 'rejected', reason: 'timeJump', detail: 'time leaps from 0 s to 1000000000000000 s while 3.0 s passed on this computer' });
+    expect(r.parse('4,50', 4000).kind).toBe('absorbance');
+    expect(r.rejected).toMatchObject({ absorbanceRange: 2, timeJump: 1 });
   });
 
   it('never throws and never yields a non-finite value (fuzz)', () => {

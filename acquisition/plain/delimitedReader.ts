@@ -10,6 +10,8 @@ import type { DeviceLine } from '../protocol/lineProtocol';
 import { emptyRejectCounts } from '../sources/sourceStatus';
 import { lastNumberProblem, parseDecimal } from '../protocol/decimalNumber';
 import type { RejectReason } from '../sources/sourceTypes';
+import { DeviceTimeLine } from '../protocol/deviceTimeLine';
+import { readableAbsorbanceProblem } from '../protocol/absorbance';
 
 export interface DelimitedConfig {
   /** ',' ';' '\t' or any single character; 'whitespace' splits on runs of spaces and tabs. */
@@ -35,7 +37,8 @@ export class DelimitedReader {
   empty = 0;
   headers = 0;
   total = 0;
-  private lastTime_s = -Infinity;
+  private readonly clock = new DeviceTimeLine();
+  private host_ms: number | undefined = undefined;
   private seenData = false;
   private readonly maxChars: number;
   private toSkip: number;
@@ -52,8 +55,10 @@ export class DelimitedReader {
     return line.split(c.delimiter).map((f) => f.trim());
   }
 
-  parse(raw: string): DeviceLine {
+  /** One line; `hostTime_ms` as for LineParser.parse (a time leaping ahead of the host's is refused). */
+  parse(raw: string, hostTime_ms?: number): DeviceLine {
     this.total++;
+    this.host_ms = hostTime_ms;
     const out = this.read(raw);
     if (out.kind === 'rejected') this.rejected[out.reason]++;
     else if (out.kind === 'empty') this.empty++;
@@ -107,7 +112,6 @@ export class DelimitedReader {
       wl = r.v;
     }
     const time_s = t.v * TIME_FACTOR[this.config.timeUnit];
-    if (time_s < this.lastTime_s) return this.reject('timeBackwards', `time goes backwards (${time_s} s after ${this.lastTime_s} s)`);
     let absorbance = value.v;
     if (this.config.valueUnit !== 'absorbance') {
       const T = this.config.valueUnit === 'percentT' ? value.v / 100 : value.v;
@@ -115,8 +119,12 @@ export class DelimitedReader {
       if (!(T > 0)) return this.reject('nonFinite', `transmittance ${value.v}${this.config.valueUnit === 'percentT' ? ' %' : ''} at or below zero gives no finite absorbance`);
       absorbance = -Math.log10(T) + 0;
     }
+    const unreadable = readableAbsorbanceProblem(absorbance);
+    if (unreadable) return this.reject('absorbanceRange', `value (column ${c.value + 1}): ${unreadable}`);
+    const refused = this.clock.check(time_s, this.host_ms);
+    if (refused) return this.reject(refused.reason, refused.detail.replace(/^device time/, 'time'));
     this.seenData = true;
-    this.lastTime_s = time_s;
+    this.clock.accept(time_s, this.host_ms);
     return { kind: 'absorbance', deviceTime_s: time_s, wavelength_nm: wl, absorbance, cellTemperature_C: temp, flags: 0 };
   }
 }

@@ -9,17 +9,34 @@ import { seededRandom } from '../../kinetics/random';
 const blank = (net: number): BlankReference => ({ netBlank_counts: net, dark_counts: 800, points: 10, time_s: 0, wavelength_nm: 630 });
 
 describe('absorbance from counts', () => {
+  // common practice: A = −log10 T. Worked by hand: (11876 − 805)/(50123 − 812) = 11071/49311 = 0.224514…,
+  // −log10 = 0.648759…; half the light is A = log10 2 = 0.30103; a tenth is exactly 1 AU; the blank itself is 0.
+  // [sample counts, dark counts, net blank counts (I_blank − I_dark), A, digits]
+  const byHand: Array<[number, number, number, number, number]> = [
+    [11876, 805, 50123 - 812, 0.648759, 5],
+    [10800, 800, 20000, 0.30103, 5],
+    [2800, 800, 20000, 1, 12],
+    [20800, 800, 20000, 0, 12],
+  ];
+  type Absorbance = (sample: number, dark: number, netBlank: number) => number | null;
+  const misses = (a: Absorbance): number => byHand.filter(([s, d, net, want, digits]) => {
+    const got = a(s, d, net);
+    return got === null || Math.abs(got - want) >= 0.5 * 10 ** -digits;
+  }).length;
+
   it('follows A = −log10((I − I_dark)/(I_blank − I_dark)), worked by hand', () => {
-    // common practice: A = −log10 T. By hand: (11876 − 805)/(50123 − 812) = 11071/49311 = 0.224514…, −log10 = 0.648759…
-    const r = absorbanceFromCounts(11876, 805, blank(50123 - 812));
-    expect(r.absorbance!).toBeCloseTo(0.648759, 5);
-    expect(r.flags & ReadingFlag.fromIntensity).toBeTruthy();
-    // By hand: half the light is A = log10 2 = 0.30103; a tenth is exactly 1 AU; the blank itself is 0
-    expect(absorbanceFromCounts(10800, 800, blank(20000)).absorbance!).toBeCloseTo(0.30103, 5);
-    expect(absorbanceFromCounts(2800, 800, blank(20000)).absorbance!).toBeCloseTo(1, 12);
-    expect(absorbanceFromCounts(20800, 800, blank(20000)).absorbance).toBe(0);
-    // negative control: forgetting the dark gives a different number
-    expect(-Math.log10(11876 / 50123)).not.toBeCloseTo(0.648759, 2);
+    expect(misses((s, d, net) => absorbanceFromCounts(s, d, blank(net)).absorbance)).toBe(0);
+    expect(absorbanceFromCounts(20800, 800, blank(20000)).absorbance).toBe(0); // exactly, not −0
+    expect(absorbanceFromCounts(11876, 805, blank(50123 - 812)).flags & ReadingFlag.fromIntensity).toBeTruthy();
+  });
+
+  it('negative control: the same hand-worked cases fail on the usual slips', () => {
+    // the dark not taken off the sample, nor off the blank
+    expect(misses((s, d, net) => -Math.log10(s / (net + d)))).toBeGreaterThanOrEqual(3);
+    // the dark taken off the sample only
+    expect(misses((s, d, net) => -Math.log10((s - d) / (net + d)))).toBeGreaterThanOrEqual(3);
+    // the natural logarithm for the decadic one
+    expect(misses((s, d, net) => -Math.log((s - d) / net))).toBeGreaterThanOrEqual(3);
   });
 
   it('flags saturation and absorbance past about 2 AU', () => {

@@ -6,6 +6,7 @@
  */
 import { ReadingFlag } from '../sources/sourceTypes';
 import { studentTQuantile } from '../../kinetics/fit/studentT';
+import { READABLE_RANGE_AU } from '../../kinetics/endValueBounds';
 
 export interface CountsLimits {
   /** Detector full scale (counts); a 16-bit converter by default. */
@@ -24,6 +25,21 @@ export const DEFAULT_COUNTS_LIMITS: Readonly<CountsLimits> = Object.freeze({
   reliableLimit_AU: 2,
   defaultDark_counts: 0,
 });
+
+/**
+ * What any photometer can read, in AU (the one range, kinetics/endValueBounds.ts): below −1 (the sample passing ten times the blank's
+ * light) or above 10 (one part in 10¹⁰ getting through) no instrument measures; a number
+ * out there is a corrupted line or a wrong column, never an absorbance. Readings are
+ * refused outside it (`absorbanceRange`), long before the fits would be wrecked.
+ */
+export { READABLE_RANGE_AU };
+
+/** Why an absorbance cannot be a reading (outside READABLE_RANGE_AU), or null when it can. */
+export function readableAbsorbanceProblem(absorbance_AU: number): string | null {
+  const [low, high] = READABLE_RANGE_AU;
+  if (absorbance_AU >= low && absorbance_AU <= high) return null;
+  return `absorbance ${absorbance_AU} AU is outside what a photometer can read (${low} to ${high} AU)`;
+}
 
 /** The blank, taken at the blank step: its net intensity I_blank − I_dark. */
 export interface BlankReference {

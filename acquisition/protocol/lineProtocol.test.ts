@@ -127,13 +127,22 @@ describe('line parser', () => {
       [sealLine('a 4.000 630.0 0.5 - -'), 'timeBackwards'],
       [sealLine('i 6.000 630.0 100 - - -'), 'unitChange'],
       [sealLine('a 6.000 630.0 Infinity - -'), 'nonFinite'],
+      [sealLine('a 6.000 630.0 5e300 - -'), 'absorbanceRange'],
+      [sealLine('a 6.000 630.0 -1.5 - -'), 'absorbanceRange'],
+      // Host time 5 s after the reading at 5 s: a device time of 1e15 s cannot be.
+      [sealLine('a 1000000000000000 630.0 0.5 - -'), 'timeJump'],
+      [sealLine('a 7.000 630.0 0.5 - -'), 'ok'], // the time line stayed at 5 s
     ];
+    let host_ms = 0;
     for (const [line, reason] of cases) {
-      const out = p.parse(line);
+      host_ms += 1000;
+      const out = p.parse(line, host_ms);
       if (reason === 'ok') expect(out.kind).toBe('absorbance');
       else expect(out).toMatchObject({ kind: 'rejected', reason });
     }
-    expect(p.rejected).toEqual({ checksum: 1, malformed: 3, overlong: 1, nonFinite: 1, timeBackwards: 1, unitChange: 1, binaryNoise: 1, unknownType: 1 });
+    expect(p.rejected).toEqual({
+      checksum: 1, malformed: 3, overlong: 1, nonFinite: 1, timeBackwards: 1, unitChange: 1, binaryNoise: 1, unknownType: 1, timeJump: 1, absorbanceRange: 2,
+    });
   });
 
   it('starts the clock and the unit afresh when the device identifies itself again', () => {

@@ -13,6 +13,8 @@ import { emptyRejectCounts } from '../sources/sourceStatus';
 import { ReadingFlag } from '../sources/sourceTypes';
 import { crc16 } from './crc16';
 import { lastNumberProblem, parseDecimal } from './decimalNumber';
+import { DeviceTimeLine } from './deviceTimeLine';
+import { readableAbsorbanceProblem } from './absorbance';
 
 export const PROTOCOL_VERSION = 1;
 /** Longest accepted line, checksum included, line end excluded (a spectrum of ~500 points fits). */
@@ -91,18 +93,26 @@ export class LineParser {
   empty = 0;
   /** Lines seen (accepted + empty + rejected). */
   total = 0;
-  private lastTime_s = -Infinity;
+  private readonly clock = new DeviceTimeLine();
+  /** Host time of the line under parse (ms), when the caller gives one. */
+  private host_ms: number | undefined = undefined;
   private unit: 'absorbance' | 'counts' | null = null;
   private readonly f = new Fields();
 
   /** Forget the time base and the unit, as after the device identified itself again (restart). */
   resetTimeBase(): void {
-    this.lastTime_s = -Infinity;
+    this.clock.reset();
     this.unit = null;
   }
 
-  parse(raw: string): DeviceLine {
+  /**
+   * One line. `hostTime_ms` (when the line was read, on any monotonic clock) lets the
+   * parser refuse a device time that leaps far ahead of the time that passed (`timeJump`);
+   * without it (a capture read from a file) only time going backwards is refused.
+   */
+  parse(raw: string, hostTime_ms?: number): DeviceLine {
     this.total++;
+    this.host_ms = hostTime_ms;
     const out = this.parseLine(raw);
     if (out.kind === 'rejected') this.rejected[out.reason]++;
     else if (out.kind === 'empty') this.empty++;
@@ -153,11 +163,15 @@ export class LineParser {
       : this.reject('malformed', `${field} is not a number`);
   }
 
-  /** Device time must not go backwards; the line is rejected if it does. */
+  /** Device time must not go backwards nor leap ahead (deviceTimeLine.ts); the line is rejected if it does. */
   private checkTime(t: number): DeviceLine | null {
     if (t < 0) return this.reject('malformed', 'device time is negative');
-    if (t < this.lastTime_s) return this.reject('timeBackwards', `device time goes backwards (${t} s after ${this.lastTime_s} s)`);
-    return null;
+    const refused = this.clock.check(t, this.host_ms);
+    return refused ? this.reject(refused.reason, refused.detail) : null;
+  }
+
+  private acceptTime(t: number): void {
+    this.clock.accept(t, this.host_ms);
   }
 
   private checkUnit(unit: 'absorbance' | 'counts'): DeviceLine | null {
@@ -189,9 +203,12 @@ export class LineParser {
     if (flags < 0) return this.reject('malformed', 'flags field is not "-" or letters');
     const unitBad = this.checkUnit(counts ? 'counts' : 'absorbance');
     if (unitBad) return unitBad;
+    // A photometer reads about −1 to 10 AU at the very most: a number beyond is a corrupted line, not a reading.
+    const unreadable = counts ? null : readableAbsorbanceProblem(value);
+    if (unreadable) return this.reject('absorbanceRange', unreadable);
     const timeBad = this.checkTime(t);
     if (timeBad) return timeBad;
-    this.lastTime_s = t;
+    this.acceptTime(t);
     this.unit = counts ? 'counts' : 'absorbance';
     if (!counts) return { kind: 'absorbance', deviceTime_s: t, wavelength_nm: wl, absorbance: value, cellTemperature_C: temp, flags };
     return { kind: 'counts', blank, deviceTime_s: t, wavelength_nm: wl, sampleCounts: value, darkCounts: dark, cellTemperature_C: temp, flags };
@@ -223,7 +240,7 @@ export class LineParser {
     }
     const timeBad = this.checkTime(t);
     if (timeBad) return timeBad;
-    this.lastTime_s = t;
+    this.acceptTime(t);
     return { kind: 'spectrum', frame: { deviceTime_s: t, wavelengths_nm, values, kind } };
   }
 
@@ -236,7 +253,7 @@ export class LineParser {
     if (Number.isNaN(temp)) return this.numberReject('cell temperature');
     const timeBad = this.checkTime(t);
     if (timeBad) return timeBad;
-    this.lastTime_s = t;
+    this.acceptTime(t);
     return { kind: 'temperature', deviceTime_s: t, cellTemperature_C: temp };
   }
 
@@ -249,7 +266,7 @@ export class LineParser {
     const sends = f.is(6, 'abs') ? 'absorbance' : f.is(6, 'cnt') ? 'counts' : null;
     if (!sends) return this.reject('malformed', 'identity says neither "abs" nor "cnt"');
     // A device identifies itself when it starts: its clock and unit start afresh.
-    this.lastTime_s = -Infinity;
+    this.clock.reset();
     this.unit = sends;
     return { kind: 'identity', version, identity: { maker: f.text(2), model: f.text(3), serial: f.text(4), firmware: f.text(5), sends } };
   }

@@ -5,10 +5,10 @@
  * cell temperature. It never emits a non-finite absorbance.
  */
 import type { DeviceLine } from './lineProtocol';
-import type { DeviceIdentity, Reading, RejectCounts, SourceEvent } from '../sources/sourceTypes';
+import type { DeviceIdentity, Reading, RejectCounts, RejectReason, SourceEvent } from '../sources/sourceTypes';
 import { ReadingFlag } from '../sources/sourceTypes';
 import {
-  absorbanceFromCounts, analyzeBlank, DEFAULT_BASELINE_RULES, DEFAULT_COUNTS_LIMITS,
+  absorbanceFromCounts, analyzeBlank, readableAbsorbanceProblem, DEFAULT_BASELINE_RULES, DEFAULT_COUNTS_LIMITS,
   type BaselineRules, type BlankReference, type CountsLimits,
 } from './absorbance';
 
@@ -55,6 +55,8 @@ export class ReadingAssembler {
   private temperatureOut = false;
   private problemsReported = 0;
   private awaitingWhy = '';
+  /** Refusals said as warnings so far, by reason (the ones a person must hear of, not only see counted). */
+  private readonly refusalsSaid = new Map<string, number>();
 
   constructor(
     private readonly emit: (e: SourceEvent) => void,
@@ -78,7 +80,7 @@ export class ReadingAssembler {
     switch (line.kind) {
       case 'empty': return;
       case 'rejected':
-        this.emit({ type: 'rejected', reason: line.reason, line: raw.length > 200 ? raw.slice(0, 200) + '…' : raw, counts: { ...counts } });
+        this.refused(line.reason, line.detail, raw, counts);
         return;
       case 'identity':
         // A device answers `who` with its identity, and sends it when it starts. Only a clock that
@@ -110,9 +112,27 @@ export class ReadingAssembler {
           this.blankD.push(line.darkCounts);
           return;
         }
-        this.countsReading(line, hostTime_ms);
+        this.countsReading(line, hostTime_ms, raw, counts);
         return;
     }
+  }
+
+  /**
+   * A refused line: counted (the tally is the reader's; the assembler adds what it refuses
+   * itself) and reported. A device time that leapt ahead, or an absorbance no photometer
+   * reads, is also said in words, the first time and every hundredth: either means the
+   * instrument or the line is sending garbage that looks like readings.
+   */
+  private refused(reason: RejectReason, detail: string, raw: string, counts: RejectCounts): void {
+    this.emit({ type: 'rejected', reason, line: raw.length > 200 ? raw.slice(0, 200) + '…' : raw, counts: { ...counts } });
+    if (reason !== 'timeJump' && reason !== 'absorbanceRange') return;
+    const said = (this.refusalsSaid.get(reason) ?? 0) + 1;
+    this.refusalsSaid.set(reason, said);
+    if (said !== 1 && said % 100 !== 0) return;
+    const what = reason === 'timeJump'
+      ? `${detail}: the line was left out and the run keeps its time line`
+      : `${detail}: the line was left out`;
+    this.emit({ type: 'warning', message: `${what} (${counts[reason]} such line(s) so far); if this goes on, check the instrument and its cable` });
   }
 
   /** Closes a blank in progress (called when its lines stop). */
@@ -138,7 +158,7 @@ export class ReadingAssembler {
     for (const w of r.warnings) this.emit({ type: 'warning', message: w });
   }
 
-  private countsReading(line: Extract<DeviceLine, { kind: 'counts' }>, hostTime_ms: number): void {
+  private countsReading(line: Extract<DeviceLine, { kind: 'counts' }>, hostTime_ms: number, raw: string, counts: RejectCounts): void {
     const blank = this.blank;
     if (!blank || Math.abs(blank.wavelength_nm - line.wavelength_nm) > this.wlTolerance_nm) {
       this.awaitingBlank++;
@@ -156,6 +176,12 @@ export class ReadingAssembler {
       if (this.problemsReported === 1 || this.problemsReported % 100 === 0) {
         this.emit({ type: 'warning', message: `reading at ${(line.deviceTime_s + this.timeOffset_s).toFixed(3)} s dropped: ${a.problem} (${this.problemsReported} so far)` });
       }
+      return;
+    }
+    const unreadable = readableAbsorbanceProblem(a.absorbance);
+    if (unreadable) {
+      counts.absorbanceRange++;
+      this.refused('absorbanceRange', `${unreadable} (sample ${line.sampleCounts}, dark ${line.darkCounts ?? '-'} counts)`, raw, counts);
       return;
     }
     this.reading(line.deviceTime_s, hostTime_ms, a.absorbance, line.wavelength_nm, line.cellTemperature_C, line.flags | a.flags, line.sampleCounts, line.darkCounts);

@@ -2,41 +2,15 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { Journal, JournalError, type JournalFs } from './journal';
+import { Journal, JournalError } from './journal';
 import { RunRecordError, analysisReadings, parseRunRecord, readRunRecord } from './journalReader';
 import { appendNote, readNotes, sidecarPath } from './recordNotes';
 import { demoHeader } from '../../test/fixtures/demoRecordHeader';
+import { memoryJournalFs as memoryFs } from '../../test/fixtures/memoryJournalFs';
 import { ReadingFlag, type Reading } from '../sources/sourceTypes';
 
 function reading(t: number, a: number, extra: Partial<Reading> = {}): Reading {
   return { deviceTime_s: t, hostTime_ms: 0, absorbance: a, wavelength_nm: 630, cellTemperature_C: null, flags: 0, ...extra };
-}
-
-/** An in-memory file system that keeps what was written and what was fsynced apart. */
-function memoryFs(): JournalFs & { written: string; synced: string; syncs: number; failWrites: string | null } {
-  const m = {
-    written: '',
-    synced: '',
-    syncs: 0,
-    failWrites: null as string | null,
-    exists: false,
-    openSync(_p: string, flags: string) {
-      if (flags === 'wx' && m.exists) throw Object.assign(new Error('exists'), { code: 'EEXIST' });
-      m.exists = true;
-      return 3;
-    },
-    writeSync(_fd: number, data: string) {
-      if (m.failWrites) throw Object.assign(new Error(m.failWrites), { code: m.failWrites });
-      m.written += data;
-      return data.length;
-    },
-    fsyncSync() {
-      m.syncs++;
-      m.synced = m.written;
-    },
-    closeSync() {},
-  };
-  return m;
 }
 
 let dir: string;
@@ -330,7 +304,7 @@ describe('fsync policy', () => {
     now = 600;
     j.reading(reading(2, 0.5)); // buffered: not due yet
     now = 900;
-    expect(() => j.reading(reading(3, 0.5))).toThrow('mem.jsonl: could not write the run record (the disk is full); the record keeps the 2 readings already saved. Free space or change disks and record again.');
+    expect(() => j.reading(reading(3, 0.5))).toThrow('mem.jsonl: the run record could not be written further (the disk is full); it holds 2 readings (the last at 1 s device time), complete up to its last line; free space or choose another disk, and record again.');
     expect(() => j.reading(reading(4, 0.5))).toThrow(JournalError);
     j.close();
     expect(parseRunRecord(fs.synced, 'mem.jsonl').readings.count).toBe(2);

@@ -12,14 +12,22 @@
  *
  * Creation is atomic and never overwrites: the file is opened with O_CREAT | O_EXCL
  * ('wx'), so an existing file makes creation fail before a byte is written.
+ *
+ * A failing disk never leaves a damaged record. A write may be cut short (a full disk
+ * takes what fits, then refuses), so the rest is written until all of it is in or the
+ * disk refuses; on a refusal the line cut in half is taken back (the file is truncated
+ * to its last complete line), what is there is fsynced, nothing more is ever appended,
+ * and the error says exactly how many readings the file holds. The file then reads as a
+ * record cut off by a crash: every complete line kept, no end line.
  */
 import { dirname } from 'node:path';
 import { performance } from 'node:perf_hooks';
-import { JournalError, creationError, defaultFs, describe, errorCode, type JournalFs } from './journalFs';
+import { JournalError, creationError, defaultFs, type JournalFs, type RecordOnDisk } from './journalFs';
+import { UNLINKED_CODE, completeLines, writeFailure } from './writeFailure';
 import { endSchema, eventSchema, headerSchema, isoWithLocalOffset, type RecordHeader, type RunEvent } from './runRecordFormat';
 import type { Reading } from '../sources/sourceTypes';
 
-export { JournalError, type JournalFs } from './journalFs';
+export { JournalError, type JournalFs, type JournalProblem, type RecordOnDisk } from './journalFs';
 
 export interface JournalOptions {
   fs?: JournalFs;
@@ -39,7 +47,10 @@ export interface JournalProgress {
   /** Reading lines handed to the journal, and the device time of the last. */
   readings: number;
   lastDeviceTime_s: number | null;
-  /** Readings known to be on disk (fsynced), and the device time of the last of them. */
+  /**
+   * Readings known to be on disk (fsynced), and the device time of the last of them. After
+   * a failed write, what the file holds (see JournalError.onDisk).
+   */
   syncedReadings: number;
   syncedDeviceTime_s: number | null;
   lines: number;
@@ -60,6 +71,8 @@ export class Journal {
   private writtenLastT: number | null = null;
   private syncedReadings = 0;
   private syncedLastT: number | null = null;
+  /** Bytes in the file, every one of them in a complete line. */
+  private fileBytes = 0;
   private lineCount = 0;
   private writeCount = 0;
   private lastWrite_ms = -Infinity;
@@ -98,7 +111,7 @@ export class Journal {
     const checked = headerSchema.safeParse(header);
     if (!checked.success) {
       const issue = checked.error.issues[0];
-      throw new JournalError(`${path}: the run's metadata are not valid (${issue?.path.join('.')}: ${issue?.message}); correct them and start again.`);
+      throw new JournalError(`${path}: the run's metadata are not valid (${issue?.path.join('.')}: ${issue?.message}); correct them and start again.`, null, 'invalidHeader');
     }
     const fs = options.fs ?? defaultFs;
     let fd: number;
@@ -108,8 +121,19 @@ export class Journal {
       throw creationError(path, err);
     }
     const journal = new Journal(path, fd, options);
-    journal.append(JSON.stringify(checked.data), false);
-    journal.commit();
+    try {
+      journal.append(JSON.stringify(checked.data), false);
+      journal.commit();
+    } catch (err) {
+      // Not even the header is in: the file holds nothing, so it goes, leaving the name free for the retry.
+      journal.abandon();
+      try {
+        fs.unlinkSync(path);
+      } catch {
+        // A file with no complete line reads as "no header line"; nothing measured is in it.
+      }
+      throw creationError(path, (err as JournalError).cause ?? err);
+    }
     fs.syncDirectory?.(dirname(path));
     return journal;
   }
@@ -176,12 +200,26 @@ export class Journal {
     try {
       this.fs.fsyncSync(this.fd);
     } catch (err) {
-      throw this.fail(err);
+      // The lines are in the file, but the disk did not confirm them: only the last good sync is sure.
+      throw this.fail(err, { readings: this.writtenReadings, lastDeviceTime_s: this.writtenLastT, synced: false });
     }
     this.syncCount++;
     this.unsyncedSince_ms = null;
     this.syncedReadings = this.writtenReadings;
     this.syncedLastT = this.writtenLastT;
+    // Deleting the record (or its folder) does not make writes fail: they go on into a file
+    // no one can open again. So at each commit, the file must still have its name.
+    if (this.fs.linkCount && this.linkCountSafe() === 0) {
+      throw this.fail(Object.assign(new Error('the record file has no name left'), { code: UNLINKED_CODE }), { readings: 0, lastDeviceTime_s: null, synced: true });
+    }
+  }
+
+  private linkCountSafe(): number | null {
+    try {
+      return this.fs.linkCount!(this.fd);
+    } catch {
+      return null; // a file system that cannot say: the writes and fsyncs above are the check
+    }
   }
 
   /**
@@ -250,7 +288,7 @@ export class Journal {
 
   private append(line: string, isReading: boolean, t?: number): void {
     if (this.failure) throw this.failure;
-    if (this.closed) throw new JournalError(`${this.path}: the record is already closed; nothing more can be added to it.`);
+    if (this.closed) throw new JournalError(`${this.path}: the record is already closed; nothing more can be added to it.`, null, 'closed');
     const now = this.now();
     this.pending += line + '\n';
     this.lineCount++;
@@ -268,13 +306,21 @@ export class Journal {
 
   private writePending(): void {
     if (this.pending.length === 0) return;
+    const bytes = Buffer.from(this.pending, 'utf8');
+    let done = 0;
     try {
-      this.fs.writeSync(this.fd, this.pending);
+      // A full disk writes what fits and says so only in the count; the rest is written again until the disk refuses.
+      while (done < bytes.length) {
+        const n = this.fs.writeSync(this.fd, bytes, done, bytes.length - done);
+        if (!(n > 0)) throw Object.assign(new Error('the disk accepted no more bytes'), { code: 'ENOSPC' });
+        done += n;
+      }
     } catch (err) {
-      throw this.fail(err);
+      throw this.fail(err, this.takeBackPartial(bytes, done));
     }
     this.writeCount++;
     this.lastWrite_ms = this.now();
+    this.fileBytes += bytes.length;
     this.pending = '';
     this.pendingSince_ms = null;
     this.writtenReadings += this.pendingReadings;
@@ -282,13 +328,34 @@ export class Journal {
     this.pendingReadings = 0;
   }
 
-  private fail(err: unknown): JournalError {
-    const code = errorCode(err);
-    const why = code === 'ENOSPC' ? 'the disk is full' : code === 'EIO' ? 'the disk reported an input/output error' : describe(err);
-    this.failure = new JournalError(
-      `${this.path}: could not write the run record (${why}); the record keeps the ${this.syncedReadings} readings already saved. Free space or change disks and record again.`,
-      code,
-    );
+  /**
+   * After a write that stopped at byte `done` of `bytes`: cut the file back to its last
+   * complete line and fsync it, and say what it then holds. Every step is best effort: a
+   * torn last line that cannot be cut is still dropped by the reader as a crash artefact.
+   */
+  private takeBackPartial(bytes: Buffer, done: number): RecordOnDisk {
+    const complete = completeLines(bytes, done);
+    let synced = true;
+    try {
+      if (complete.bytes < done) this.fs.ftruncateSync(this.fd, this.fileBytes + complete.bytes);
+      this.fs.fsyncSync(this.fd);
+    } catch {
+      synced = false;
+    }
+    this.fileBytes += complete.bytes;
+    return {
+      readings: this.writtenReadings + complete.readings,
+      lastDeviceTime_s: complete.readings > 0 ? complete.lastDeviceTime_s : this.writtenLastT,
+      synced,
+    };
+  }
+
+  private fail(err: unknown, onDisk: RecordOnDisk): JournalError {
+    this.failure = writeFailure(this.path, err, onDisk, this.syncedReadings);
+    if (onDisk.synced) {
+      this.syncedReadings = onDisk.readings;
+      this.syncedLastT = onDisk.lastDeviceTime_s;
+    }
     this.stopTimer();
     return this.failure;
   }
@@ -298,3 +365,4 @@ export class Journal {
     this.timer = null;
   }
 }
+

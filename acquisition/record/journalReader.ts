@@ -9,6 +9,7 @@
  * and the line: the reader never guesses around damage in the middle of a run.
  */
 import { readFileSync } from 'node:fs';
+import { TextDecodingError, decodeUserText } from '../files/textDecoding';
 import type { z } from 'zod';
 import {
   RUN_RECORD_FORMAT,
@@ -78,8 +79,9 @@ export interface RunRecord {
 export function readRunRecord(path: string): RunRecord {
   let text: string;
   try {
-    text = readFileSync(path, 'utf8');
+    text = decodeUserText(readFileSync(path), path).text;
   } catch (err) {
+    if (err instanceof TextDecodingError) throw new RunRecordError(err.message, path, null);
     const code = (err as { code?: string }).code;
     const why = code === 'ENOENT' ? 'no such file' : code === 'EACCES' ? 'no permission to read it' : String((err as Error).message ?? err);
     throw new RunRecordError(`${path}: cannot open the run record (${why}); check the name.`, path, null);
@@ -90,7 +92,8 @@ export function readRunRecord(path: string): RunRecord {
 /** Parses the text of a record; `path` is only used in messages. */
 export function parseRunRecord(text: string, path: string): RunRecord {
   // Zero bytes at the end are what a file system leaves when the size reached the disk and the data did not.
-  let body = text;
+  // An editor may have saved the record with a byte-order mark: it is not part of the header line.
+  let body = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
   let zeroTail = 0;
   while (body.length > 0 && body.charCodeAt(body.length - 1) === 0) {
     body = body.slice(0, -1);

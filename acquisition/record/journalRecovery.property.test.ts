@@ -5,19 +5,14 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { demoHeader } from '../../test/fixtures/demoRecordHeader';
-import { Journal, type JournalFs } from './journal';
+import { Journal } from './journal';
+import { memoryJournalFs } from '../../test/fixtures/memoryJournalFs';
 import { parseRunRecord } from './journalReader';
 import type { Reading } from '../sources/sourceTypes';
 
 function memoryJournal(): { journal: Journal; text: () => string } {
-  let written = '';
-  const fs: JournalFs = {
-    openSync: () => 1,
-    writeSync: (_fd, data) => ((written += data), data.length),
-    fsyncSync: () => undefined,
-    closeSync: () => undefined,
-  };
-  return { journal: Journal.create('mem.jsonl', demoHeader(), { fs, timer: false }), text: () => written };
+  const fs = memoryJournalFs();
+  return { journal: Journal.create('mem.jsonl', demoHeader(), { fs, timer: false }), text: () => fs.written };
 }
 
 const item = fc.oneof(

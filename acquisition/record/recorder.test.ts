@@ -6,7 +6,8 @@ import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import { DEMO_RUN, simulateRun } from '../../kinetics/reactionModel';
 import { demoHeader } from '../../test/fixtures/demoRecordHeader';
 import { Journal, type JournalFs } from './journal';
-import { analysisReadings, readRunRecord } from './journalReader';
+import { memoryJournalFs } from '../../test/fixtures/memoryJournalFs';
+import { analysisReadings, parseRunRecord, readRunRecord } from './journalReader';
 import { Recorder } from './recorder';
 import { ReplaySource, timelineFromRecord, timelineFromReadings } from '../sources/replaySource';
 import { SimulatedSource } from '../sources/simulatedSource';
@@ -113,29 +114,22 @@ describe('recorder', () => {
   });
 
   it('stops with one clear sentence when the disk fails, keeping what was saved', async () => {
-    let fail = false;
-    const written: string[] = [];
-    const fs: JournalFs = {
-      openSync: () => 7,
-      writeSync: (_fd, data) => {
-        if (fail) throw Object.assign(new Error('no space'), { code: 'ENOSPC' });
-        written.push(data);
-        return data.length;
-      },
-      fsyncSync: () => undefined,
-      closeSync: () => undefined,
-    };
+    const fs = memoryJournalFs();
     const journal = Journal.create('disk.jsonl', demoHeader(), { fs, timer: false, commit_ms: 0 });
     const source = demoSource(300, false);
     let readings = 0;
     source.on((e) => {
-      if (e.type === 'reading' && ++readings === 100) fail = true;
+      if (e.type === 'reading' && ++readings === 100) fs.failWrites = 'ENOSPC';
     });
     const recorder = new Recorder({ source, journal, analyzer: new RunAnalyzer() });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('error');
-    expect(outcome.error).toMatch(/^disk\.jsonl: could not write the run record \(the disk is full\); the record keeps the \d+ readings already saved\./);
+    expect(outcome.error).toMatch(/^disk\.jsonl: the run record could not be written further \(the disk is full\); it holds \d+ readings .*, complete up to its last line; free space or choose another disk, and record again\.$/);
+    // The count said is the count on disk, not the count handed over.
+    const onDisk = parseRunRecord(fs.written, 'disk.jsonl').readings.count;
+    expect(outcome.error).toContain(`it holds ${onDisk} readings`);
+    expect(outcome.readings).toBe(onDisk);
     expect(journal.isClosed).toBe(true);
   });
 

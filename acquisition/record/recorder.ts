@@ -149,7 +149,8 @@ export class Recorder {
       reason: writeError !== null && reason !== 'error' ? 'error' : reason,
       detail: wasRecording === 'blank' && reason === 'error' ? `during the blank: ${detail}` : detail,
       error: writeError,
-      readings: this.journal.progress().readings,
+      // After a failed write, the readings the file holds, not those handed to the journal.
+      readings: writeError !== null ? this.journal.progress().syncedReadings : this.journal.progress().readings,
       result: safeResult(this.analyzer),
     };
     this.resolveFinished(outcome);

@@ -55,6 +55,7 @@ export interface RecorderOutcome {
   detail: string;
   /** Set when the record could not be written to the end: the one-line message. */
   error: string | null;
+  /** Readings in the record (after a failed write: those the file holds, every one complete). */
   readings: number;
   /** The analysis at the stop, or null if the analyzer itself failed (the record is unaffected). */
   result: AnalysisResult | null;

@@ -4,7 +4,7 @@
  */
 import { statSync, readFileSync } from 'node:fs';
 
-export type PortProblem = 'missing' | 'busy' | 'permission' | 'other';
+export type PortProblem = 'missing' | 'busy' | 'permission' | 'notSerial' | 'other';
 
 export interface PortListing {
   path: string;
@@ -27,6 +27,7 @@ export function classifyOpenError(err: unknown): PortProblem {
   if (/eacces|permission denied|access denied|eperm/.test(text)) return 'permission';
   if (/ebusy|cannot lock|is locked|resource busy|temporarily unavailable/.test(text)) return 'busy';
   if (/enoent|no such file|does not exist|not found|file not found|cannot find/.test(text)) return 'missing';
+  if (/enotty|inappropriate ioctl|not a typewriter/.test(text)) return 'notSerial';
   return 'other';
 }
 
@@ -69,6 +70,8 @@ export function openFailureMessage(path: string, err: unknown, ports: readonly P
           : 'check the device permissions or run the program as a user allowed to use the port';
       return new SourceOpenError(problem, `no permission to open serial port ${path}; ${fix}.`);
     }
+    case 'notSerial':
+      return new SourceOpenError(problem, `${path} is not a serial port (a file or another kind of device); choose the instrument's port (${listing}).`);
     default: {
       const detail = err instanceof Error ? err.message : String(err);
       return new SourceOpenError(problem, `could not open serial port ${path} (${detail.replace(/\s+/g, ' ').slice(0, 160)}); ${listing}.`);

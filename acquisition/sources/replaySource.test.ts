@@ -1,8 +1,7 @@
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { performance } from 'node:perf_hooks';
-import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest';
 import { DEMO_RUN, simulateRun } from '../../kinetics/reactionModel';
 import { demoHeader } from '../../test/fixtures/demoRecordHeader';
 import { Journal } from '../record/journal';
@@ -49,7 +48,6 @@ function collect(source: ReplaySource): { readings: Reading[]; events: SourceEve
   return { readings, events, recorded, ended };
 }
 
-const sleep = (ms: number): Promise<void> => new Promise((r) => setTimeout(r, ms));
 
 describe('replay of a run record', () => {
   it('plays every reading as recorded, with the events in their places, at max speed', async () => {
@@ -88,45 +86,67 @@ describe('replay of a run record', () => {
     ]);
   });
 
-  it.each([10, 50])('honours a speed factor of %i (data seconds per host second, roughly)', async (speed) => {
-    // 0.1 s readings; enough data for about 0.8 s of host time at this speed.
-    const rec = demoRecord(0.1, 0.8 * speed);
-    const source = new ReplaySource(timelineFromRecord(rec), { speed });
-    const c = collect(source);
-    const start = performance.now();
-    await source.open();
-    await c.ended;
-    const host_s = (performance.now() - start) / 1000;
-    const data_s = c.readings.at(-1)!.deviceTime_s - c.readings[0]!.deviceTime_s;
-    const measured = data_s / host_s;
-    // Timers are coarse and the machine is shared: the bounds only catch a pace that is plainly wrong
-    // (max speed would be hundreds of times faster, 1× fifty times slower).
-    expect(measured).toBeGreaterThan(speed * 0.6);
-    expect(measured).toBeLessThan(speed * 1.3);
-    expect(c.readings).toHaveLength(rec.readings.count);
+  it.each([10, 50])('plays each reading when the data clock at a speed factor of %i says it is due', async (speed) => {
+    // The replay's clock and timers are the test's, so what is checked is the pacing rule itself:
+    // a reading at data time t is handed out at host time (t − t₀)/speed, never early, never late.
+    vi.useFakeTimers({ toFake: ['setTimeout', 'clearTimeout', 'setImmediate', 'clearImmediate', 'Date'] });
+    try {
+      const rec = demoRecord(0.1, 0.8 * speed);
+      const source = new ReplaySource(timelineFromRecord(rec), { speed, now_ms: () => Date.now() });
+      const c = collect(source);
+      let ended = false;
+      void c.ended.then(() => (ended = true));
+      const start_ms = Date.now();
+      await source.open();
+      for (let i = 0; i < 10_000 && !ended; i++) await vi.advanceTimersByTimeAsync(1);
+      expect(ended).toBe(true);
+      expect(c.readings).toHaveLength(rec.readings.count);
+      /** The largest gap, in ms, between when each reading came and when the data clock at `factor` had it due. */
+      const worstLag_ms = (factor: number): number => {
+        const first = c.readings[0]!;
+        return Math.max(...c.readings.map((r) => Math.abs(r.hostTime_ms - first.hostTime_ms - ((r.deviceTime_s - first.deviceTime_s) / factor) * 1000)));
+      };
+      // Within a few ticks of the 1-ms clock: a timer waits whole milliseconds, so a reading due at
+      // 30.0000004 ms comes at 31, and such roundings add up over a run to a few ms.
+      expect(worstLag_ms(speed)).toBeLessThanOrEqual(15);
+      expect(c.readings[0]!.hostTime_ms - start_ms).toBeLessThan(20); // the first at once
+      // negative control: the same readings are far off the pace of another factor
+      expect(worstLag_ms(speed * 1.3)).toBeGreaterThan(100);
+      expect(worstLag_ms(speed * 0.7)).toBeGreaterThan(100);
+    } finally {
+      vi.useRealTimers();
+    }
   });
 
-  it('pauses and resumes without losing or repeating a reading', async () => {
-    const rec = demoRecord(0.1, 60);
-    const source = new ReplaySource(timelineFromRecord(rec), { speed: 50 });
-    const c = collect(source);
-    await source.open();
-    await sleep(150);
-    expect(await source.command({ type: 'pause' })).toEqual({ ok: true });
-    const atPause = c.readings.length;
-    expect(atPause).toBeGreaterThan(0);
-    expect(source.isPaused).toBe(true);
-    await sleep(300);
-    expect(c.readings.length).toBe(atPause); // nothing arrives while paused
-    expect(await source.command({ type: 'pause' })).toMatchObject({ ok: false });
-    expect(await source.command({ type: 'resume' })).toEqual({ ok: true });
-    // Resuming does not jump ahead by the paused time: the next readings follow the last one.
-    await sleep(40);
-    const afterResume = c.readings.length - atPause;
-    expect(afterResume).toBeLessThan(0.3 * 50 * 10); // far less than the 300 ms × 50 × 10/s a jump would dump at once
-    expect(await source.command({ type: 'setSpeed', speed: 'max' })).toEqual({ ok: true });
-    await c.ended;
-    expect(c.readings.map((r) => r.deviceTime_s)).toEqual(Array.from(rec.readings.t_s));
+  it('pauses and resumes without losing or repeating a reading, and without jumping ahead', async () => {
+    vi.useFakeTimers({ toFake: ['setTimeout', 'clearTimeout', 'setImmediate', 'clearImmediate', 'Date'] });
+    try {
+      const rec = demoRecord(0.1, 60);
+      const source = new ReplaySource(timelineFromRecord(rec), { speed: 50, now_ms: () => Date.now() });
+      const c = collect(source);
+      await source.open();
+      await vi.advanceTimersByTimeAsync(150);
+      expect(await source.command({ type: 'pause' })).toEqual({ ok: true });
+      const atPause = c.readings.length;
+      // 150 ms at 50× is 7.5 s of data, 0.1 s a reading: the first 76 (t = 0 … 7.5 s).
+      expect(atPause).toBe(76);
+      expect(source.isPaused).toBe(true);
+      await vi.advanceTimersByTimeAsync(300);
+      expect(c.readings.length).toBe(atPause); // nothing arrives while paused
+      expect(await source.command({ type: 'pause' })).toMatchObject({ ok: false });
+      expect(await source.command({ type: 'resume' })).toEqual({ ok: true });
+      // Resuming carries on from the last reading: 40 ms more at 50× is 2 s of data, 20 readings,
+      // not the 150 that jumping over the paused 300 ms would dump at once.
+      await vi.advanceTimersByTimeAsync(40);
+      expect(c.readings.length - atPause).toBeGreaterThanOrEqual(19);
+      expect(c.readings.length - atPause).toBeLessThanOrEqual(21);
+      expect(await source.command({ type: 'setSpeed', speed: 'max' })).toEqual({ ok: true });
+      for (let i = 0; i < 1000 && c.readings.length < rec.readings.count; i++) await vi.advanceTimersByTimeAsync(1);
+      await c.ended;
+      expect(c.readings.map((r) => r.deviceTime_s)).toEqual(Array.from(rec.readings.t_s));
+    } finally {
+      vi.useRealTimers();
+    }
   });
 
   it('refuses speeds outside 1× to 100× and commands only a live instrument can do', async () => {

@@ -47,7 +47,7 @@ export interface SerialSourceOptions {
 }
 
 interface LineReader {
-  parse(raw: string): DeviceLine;
+  parse(raw: string, hostTime_ms?: number): DeviceLine;
   readonly rejected: RejectCounts;
 }
 
@@ -248,7 +248,8 @@ export class SerialSource implements ReadingSource {
 
   private onLine(raw: string): void {
     const host = this.now();
-    const parsed = this.parser.parse(raw);
+    // The host time lets the reader refuse a device time that leaps far ahead of it (deviceTimeLine.ts).
+    const parsed = this.parser.parse(raw, host);
     if (parsed.kind !== 'rejected' && parsed.kind !== 'empty') { this.lastActivity_ms = host; this.heardFromDevice = true; }
     const hadIdentity = this.assembler.identity;
     this.assembler.accept(parsed, raw, host, this.parser.rejected);

@@ -11,6 +11,10 @@ import { z } from 'zod';
 /** Why a line from the instrument was refused. */
 export const REJECT_REASONS = [
   'checksum', 'malformed', 'overlong', 'nonFinite', 'timeBackwards', 'unitChange', 'binaryNoise', 'unknownType',
+  /** Device time leaping far ahead of the time that passed on the host (acquisition/protocol/deviceTimeLine.ts). */
+  'timeJump',
+  /** An absorbance outside what any photometer reads (READABLE_RANGE_AU in acquisition/protocol/absorbance.ts). */
+  'absorbanceRange',
 ] as const;
 export const RejectReasonSchema = z.enum(REJECT_REASONS);
 export type RejectReason = z.infer<typeof RejectReasonSchema>;

@@ -9,17 +9,26 @@ import { parseStrd } from './nistStrd';
 const dir = join(__dirname, '../../test/fixtures/nist-strd');
 
 describe('number formatting', () => {
+  // common practice (GUM 7.2.6): state the uncertainty with at most two significant digits
+  const cases: Array<[number, number | null, string]> = [
+    [238.94212918, 2.7070075241, '238.9 ± 2.7'],
+    [0.0035027453, 0.0000017581, '(3.5027 ± 0.0018)e-3'],
+    [0.65002, 0.00021, '0.65002 ± 0.00021'],
+    [130012.3, 1520, '(1.300 ± 0.015)e5'],
+    [1.5, null, '1.5'],
+  ];
+  const misses = (format: (value: number, se: number | null) => string): number => cases.filter(([v, se, want]) => format(v, se) !== want).length;
+
   it('standard error to two significant figures, value to the same place', () => {
-    // common practice (GUM 7.2.6): state the uncertainty with at most two significant digits
-    expect(formatWithUncertainty(238.94212918, 2.7070075241)).toBe('238.9 ± 2.7');
-    expect(formatWithUncertainty(0.0035027453, 0.0000017581)).toBe('(3.5027 ± 0.0018)e-3');
-    expect(formatWithUncertainty(0.65002, 0.00021)).toBe('0.65002 ± 0.00021');
-    expect(formatWithUncertainty(130012.3, 1520)).toBe('(1.300 ± 0.015)e5');
-    expect(formatWithUncertainty(1.5, null)).toBe('1.5');
+    for (const [v, se, want] of cases) expect(formatWithUncertainty(v, se)).toBe(want);
   });
 
-  it('negative control: a wrong rounding would be caught', () => {
-    expect(formatWithUncertainty(238.94212918, 2.7070075241)).not.toBe('238.94 ± 2.71');
+  it('negative control: the same cases fail on formatters that round the usual wrong ways', () => {
+    expect(misses(formatWithUncertainty)).toBe(0);
+    // fixed decimals, as toFixed(2) prints them (238.94 ± 2.71)
+    expect(misses((v, se) => (se === null ? String(v) : `${v.toFixed(2)} ± ${se.toFixed(2)}`))).toBeGreaterThanOrEqual(4);
+    // three significant figures on the uncertainty instead of two
+    expect(misses((v, se) => (se === null ? String(v) : `${v.toPrecision(4)} ± ${se.toPrecision(3)}`))).toBeGreaterThanOrEqual(4);
   });
 });
 

@@ -22,10 +22,13 @@ describe('Wald–Wolfowitz runs test', () => {
     expect(res.p!).toBeCloseTo(0.7621, 3); // hand: Φ(0.3028) ≈ 0.6190 from the normal table
   });
 
-  it('negative control: without the continuity correction z would differ', () => {
+  it('negative control: the hand-worked check fails on z without the continuity correction', () => {
     const r = [0.3, 0.1, -0.2, -0.5, -0.1, 0.4, -0.3, 0.2, 0.1, 0.6, -0.2, -0.4];
-    const uncorrected = -1 / Math.sqrt(30 / 11);
-    expect(Math.abs(runsTest(r).z! - uncorrected)).toBeGreaterThan(0.2);
+    const res = runsTest(r);
+    const handWorked = (z: number): boolean => Math.abs(z - -0.5 / Math.sqrt(30 / 11)) < 1e-13;
+    expect(handWorked(res.z!)).toBe(true);
+    // the same statistic from our own runs, mean and SD, the way a test without the correction computes it
+    expect(handWorked((res.runs - res.expectedRuns!) / res.sdRuns!)).toBe(false);
   });
 
   it('a systematic misfit (one long run of each sign) gives a small p and negative z', () => {

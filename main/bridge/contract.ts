@@ -43,9 +43,19 @@ export const READINGS_BATCH_MS = 50;
 /** IPC channel names (Electron) and the WebSocket path (web host). */
 export { CHANNELS } from './channels';
 export const SOCKET_PATH = '/bridge';
-/** Query parameter and header that carry the web host's per-launch token. */
+/**
+ * The web host's per-launch token: in the address it prints (query `token`, read once by
+ * the page and then cleared from the address bar), in a header on every HTTP request that
+ * reads or changes anything, and in the socket's first message. Never in a cookie: a
+ * browser sends cookies for 127.0.0.1 to every port on it, so any program listening on
+ * another port would learn the token.
+ */
 export const TOKEN_PARAM = 'token';
 export const TOKEN_HEADER = 'x-rateline-token';
+/** How long the socket waits for its first message (the token) before it is closed. */
+export const HELLO_TIMEOUT_MS = 10_000;
+/** Close codes of a socket refused for its token (4000–4999 are an application's own). */
+export const SOCKET_CLOSE = Object.freeze({ noToken: 4401, wrongToken: 4403 });
 
 const shortText = z.string().max(LIMITS.maxShortText);
 const finite = z.number(); // zod 4 numbers reject NaN and ±Infinity
@@ -288,7 +298,11 @@ export const ClientMessageSchema = z.object({
   request: z.unknown(),
 }).strict();
 export type ClientMessage = { kind: 'request'; id: number; request: BridgeRequest };
+/** The socket's first message, before any request: the token (web host only). */
+export const HelloMessageSchema = z.object({ kind: z.literal('hello'), token: z.string().max(LIMITS.maxShortText) }).strict();
+export type HelloMessage = z.infer<typeof HelloMessageSchema>;
 export type ServerMessage =
+  | { kind: 'welcome' }
   | { kind: 'reply'; id: number | null; reply: AnyReply }
   | { kind: 'event'; event: BridgeEvent };
 

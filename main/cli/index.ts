@@ -5,6 +5,7 @@
  * in which each import() below is a chunk of its own (bin/commandBundle.js).
  */
 import { EXIT_BAD_INPUT, EXIT_FAULT, InputError, type CommandModule } from './common/cliErrors';
+import { guardTerminal } from './common/terminalText';
 
 interface CommandEntry {
   summary: string;
@@ -48,6 +49,9 @@ async function causedByInput(err: unknown): Promise<boolean> {
 }
 
 export async function main(argv: string[]): Promise<number> {
+  // Whatever a command prints may carry a file's or a person's text: no escape sequence in it reaches the terminal.
+  guardTerminal(process.stdout);
+  guardTerminal(process.stderr);
   const [name, ...rest] = argv;
   if (!name || name === '--help' || name === '-h' || name === 'help') {
     console.log(usage());

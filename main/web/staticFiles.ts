@@ -1,10 +1,12 @@
 /**
  * The built screens served as files, confined to their folder: the request path is
  * decoded, normalised and checked to stay inside it, so `..` or an encoded slash cannot
- * reach anything else on disk.
+ * reach anything else on disk; and the file's real path (every symbolic link followed)
+ * must be inside the folder's real path too, so a link placed in the build folder cannot
+ * hand out a file from elsewhere.
  */
 import { createReadStream } from 'node:fs';
-import { stat } from 'node:fs/promises';
+import { realpath, stat } from 'node:fs/promises';
 import type { ServerResponse } from 'node:http';
 import { extname, resolve, sep } from 'node:path';
 
@@ -42,9 +44,12 @@ export async function serveStatic(
   refuse: (res: ServerResponse, status: number, text: string) => void,
 ): Promise<void> {
   if (!root) return refuse(res, 503, 'the screens are not built; run "npm run build:renderer" and start again.');
-  const file = confinedPath(root, pathname);
-  if (!file) return refuse(res, 404, 'not found.');
+  const named = confinedPath(root, pathname);
+  if (!named) return refuse(res, 404, 'not found.');
   try {
+    const realRoot = await realpath(root);
+    const file = await realpath(named);
+    if (!file.startsWith(realRoot + sep)) return refuse(res, 404, 'not found.');
     const s = await stat(file);
     if (!s.isFile()) return refuse(res, 404, 'not found.');
     res.writeHead(200, {

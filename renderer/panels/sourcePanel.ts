@@ -13,6 +13,7 @@ import { createPeakPanel } from './peakPanel';
 const REJECT_WORDS: Record<RejectReason, string> = {
   checksum: 'bad checksum', malformed: 'malformed', overlong: 'too long', nonFinite: 'not a number',
   timeBackwards: 'time went backwards', unitChange: 'unit changed', binaryNoise: 'line noise', unknownType: 'unknown kind',
+  timeJump: 'time leapt ahead', absorbanceRange: 'absorbance out of range',
 };
 
 export interface SourcePanel {

@@ -77,7 +77,7 @@ describe('every argument mistake is one sentence and exit 2', () => {
     refused(rateline('calibrate', 'standards.csv', '--intercept=yes'), /^rateline calibrate: --intercept takes no value; write it alone\.$/);
     refused(rateline('emulate', '--counts=1'), /^rateline emulate: --counts takes no value; /);
     refused(rateline('analyze', 'demo.csv', '--from', '1', '--from', '2'), /^rateline analyze: --from is given twice; give it once\.$/);
-    refused(rateline('record', '--simulate', '--temperature-c', 'cold', '--out', 'x.jsonl'), /^rateline record: --temperature-c cold is not a temperature in °C; give a temperature in °C\.$/);
+    refused(rateline('record', '--simulate', '--temperature-c', 'cold', '--out', 'x.jsonl'), /^rateline record: --temperature-c cold is not a temperature in °C from -100 to 500; give a temperature in °C from -100 to 500\.$/);
     refused(rateline('start', '--speed', '-5'), /^rateline start: --speed -5 is not a speed from 0\.1 to 10000; /);
     refused(rateline('analyze', 'demo.csv', '--format', 'xml'), /^rateline analyze: --format xml is not known; use text or json\.$/);
   });

@@ -7,6 +7,12 @@
 import { InputError } from '../common/cliErrors';
 import { parseCommandArguments } from '../common/arguments';
 import { formatAnalysisText } from '../common/analyzeReport';
+import { unansweredRun } from '../common/unansweredRun';
+import { HALF_LIVES_WORDS, halfLivesCheck } from '../common/benchRanges';
+import { LONGEST_RUN_S } from '../../../acquisition/files/runPlausibility';
+
+const withinAnyRun = (x: number): boolean => Math.abs(x) <= LONGEST_RUN_S;
+const TIME_WORDS = `a time in seconds within ±${LONGEST_RUN_S.toExponential(0)} s`;
 import { loadRun } from '../../../acquisition/files/runFile';
 import { RunAnalyzer } from '../../../kinetics/runAnalyzer';
 import { MIN_POINTS_TO_ESTIMATE } from '../../../kinetics/stopAdvice';
@@ -46,10 +52,10 @@ export async function run(argv: string[]): Promise<number> {
   }
   const file = args.positionals[0]!;
   const format = args.choice('format', ['text', 'json'], 'text');
-  const targetHalfLives = args.number('half-lives', (x) => x > 0 && x <= 20, 'a number of half-lives between 0 and 20');
+  const targetHalfLives = args.number('half-lives', halfLivesCheck, HALF_LIVES_WORDS);
   const precision = args.number('precision', (x) => x > 0 && x < 1, 'a fraction between 0 and 1 (e.g. 0.05)');
-  const from_s = args.number('from', () => true, 'a time in seconds');
-  const to_s = args.number('to', () => true, 'a time in seconds');
+  const from_s = args.number('from', withinAnyRun, TIME_WORDS);
+  const to_s = args.number('to', withinAnyRun, TIME_WORDS);
   const fixedAInf = args.number('a-inf', (x) => x > -1 && x < 5, 'an absorbance between -1 and 5');
   const sigmaT = args.number('noise-t', (x) => x > 0 && x < 0.5, 'a transmittance noise between 0 and 0.5 (e.g. 0.001)');
   const weights = args.choice('weights', ['noise', 'none'], 'noise');
@@ -79,6 +85,9 @@ export async function run(argv: string[]): Promise<number> {
   const signal = calibration ? toConcentration(calibration, absorbance) : absorbance;
   for (let i = 0; i < time_s.length; i++) analyzer.add(time_s[i], signal[i]);
   const result = analyzer.flush();
+  // No answer (a flat run, no rate law fitted) is a sentence and exit 2, not a table of dashes.
+  const unanswered = unansweredRun(file, result);
+  if (unanswered) throw new InputError(unanswered);
   const calibrationUsed = calibration
     ? {
         source: calibration.source,

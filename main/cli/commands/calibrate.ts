@@ -8,6 +8,7 @@
  * the line as a calibration file (acquisition/files/calibrationFile.ts). Exit 0 done, 2 bad input.
  */
 import { existsSync, statSync } from 'node:fs';
+import { PLAUSIBLE_WORDS, plausible } from '../common/benchRanges';
 import { InputError } from '../common/cliErrors';
 import { parseCommandArguments } from '../common/arguments';
 import { CalibrationFileError, calibrationFile, saveCalibrationFile } from '../../../acquisition/files/calibrationFile';
@@ -43,7 +44,7 @@ export async function run(argv: string[]): Promise<number> {
   }
   const file = args.positionals[0]!;
   const format = args.choice('format', ['text', 'json'], 'text');
-  const pathLength_cm = args.number('path-cm', (x) => x > 0 && x <= 100, 'a path length in cm (e.g. 1.00)') ?? 1;
+  const pathLength_cm = args.number('path-cm', plausible.path_cm, PLAUSIBLE_WORDS.path_cm) ?? 1;
   const predict = args.numbers('predict', (x) => x > -1 && x < 10, 'an absorbance (put FILE before --predict)');
   const hasIntercept = args.flag('intercept');
 

@@ -17,7 +17,7 @@ const K2 = 0.35;
 const CONC = [0.01, 0.02, 0.04];
 const TEMPS = [15, 20, 25, 30, 35];
 const EA_J = 48_000;
-const R = 8.314462618; // from memory: CODATA molar gas constant, J mol⁻¹ K⁻¹
+const R = 8.314462618; // from memory: CODATA molar gas constant, J mol⁻¹ K⁻¹; checked against scipy 1.17.1 scipy.constants.R = 8.31446261815324
 // handbook: Arrhenius equation k(T) = k(T_ref) exp(−Ea/R (1/T − 1/T_ref)), T/K = t/°C + 273.15
 const kAt = (t_C: number) => K2 * 0.01 * Math.exp((-EA_J / R) * (1 / (t_C + 273.15) - 1 / 298.15));
 // handbook: Student t table, two-sided 95%: t(1) = 12.706, t(2) = 4.303, t(3) = 3.182
@@ -219,7 +219,7 @@ describe('rateline combine refuses bad input in one line, exit 2', () => {
       /^c0\.02\.csv: a run CSV carries no reagent concentration; give it with --value c0\.02\.csv=C \(mol\/L\)\.$/],
     ['the same file twice', () => ['c0.01.csv', './c0.01.csv', '--by', 'concentration'], /^rateline combine: \.\/c0\.01\.csv is given twice; give each run once\.$/],
     ['no --by', () => ['c0.01.csv', 'c0.02.csv'], /^rateline combine: no --by given/],
-    ['a --value that is no number', () => ['c0.01.csv', 'c0.02.csv', '--by', 'concentration', '--value', 'c0.01.csv=ten'], /^rateline combine: --value ten is not a concentration in mol\/L above 0 \(for c0\.01\.csv\)/],
+    ['a --value that is no number', () => ['c0.01.csv', 'c0.02.csv', '--by', 'concentration', '--value', 'c0.01.csv=ten'], /^rateline combine: --value ten is not a concentration in mol\/L above 0 and at most 100 \(for c0\.01\.csv\)/],
     ['a damaged run record', () => { writeFileSync(join(dir, 'bad.jsonl'), [JSON.stringify(demoHeader()), '[0,0.6,0]', '[1,"x",1000]', '[2,0.5,2000]', ''].join('\n')); return ['bad.jsonl', 'c0.01.csv', '--by', 'temperature']; },
       /^bad\.jsonl line 3: not a valid reading .*: keep a copy, then repair or remove that line\.$/],
     ['a missing file', () => ['nope.jsonl', 'c0.01.csv', '--by', 'temperature'], /^nope\.jsonl: no such file; check the path\.$/],

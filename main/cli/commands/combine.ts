@@ -10,9 +10,12 @@
  */
 import { readUserText } from '../../../acquisition/files/runFile';
 import { extname, resolve } from 'node:path';
+import { PLAUSIBLE_WORDS, plausible } from '../common/benchRanges';
 import { InputError } from '../common/cliErrors';
 import { numberValue, parseCommandArguments } from '../common/arguments';
 import { CONCENTRATION_COLUMNS, parseNumericTable, readHeader } from '../../../acquisition/files/numericTable';
+import { shownNames } from '../../../acquisition/files/csvReader';
+import { runProblem } from '../../../acquisition/files/runPlausibility';
 import { formatCombinedText, type CombineBy, type CombinedRun, type LeftOutRun } from '../common/combineReport';
 import { parseRunCsv } from '../../../acquisition/files/runCsv';
 import { analysisReadings, parseRunRecord, type RunRecord } from '../../../acquisition/record/journalReader';
@@ -52,7 +55,7 @@ function valueOptions(raw: string[], by: CombineBy): Map<string, { given: string
     if (eq <= 0) throw new InputError(`rateline combine: --value ${pair} is not FILE=X; write e.g. --value run1.csv=${by === 'concentration' ? '0.010' : '25.0'}.`);
     const given = pair.slice(0, eq);
     const text = pair.slice(eq + 1);
-    const x = numberValue('combine', 'value', text, (v) => (by === 'concentration' ? v > 0 : v > -273.15), by === 'concentration' ? `a concentration in mol/L above 0 (for ${given})` : `a temperature in °C above absolute zero (for ${given})`);
+    const x = numberValue('combine', 'value', text, by === 'concentration' ? plausible.concentration_M : plausible.temperature_C, `${by === 'concentration' ? PLAUSIBLE_WORDS.concentration_M : PLAUSIBLE_WORDS.temperature_C} (for ${given})`);
     const key = resolve(given);
     if (out.has(key)) throw new InputError(`rateline combine: --value gives ${given} twice; give one value per file.`);
     out.set(key, { given, x });
@@ -103,10 +106,10 @@ function summaryRuns(text: string, file: string, by: CombineBy, names: string[],
   let factor = 1;
   if (by === 'temperature') {
     xName = 'temperature_c';
-    if (!names.includes(xName)) throw new InputError(`${file} line ${headerLine}: no "temperature_C" column for --by temperature (the header has ${names.map((n) => `"${n}"`).join(', ')}); add it, or use --by concentration.`);
+    if (!names.includes(xName)) throw new InputError(`${file} line ${headerLine}: no "temperature_C" column for --by temperature (the header has ${shownNames(names)}); add it, or use --by concentration.`);
   } else {
     const col = CONCENTRATION_COLUMNS.find((c) => names.includes(c.name));
-    if (!col) throw new InputError(`${file} line ${headerLine}: no "concentration_M" column for --by concentration (the header has ${names.map((n) => `"${n}"`).join(', ')}); add it, or use --by temperature.`);
+    if (!col) throw new InputError(`${file} line ${headerLine}: no "concentration_M" column for --by concentration (the header has ${shownNames(names)}); add it, or use --by temperature.`);
     xName = col.name;
     factor = col.toMolar;
   }
@@ -117,8 +120,8 @@ function summaryRuns(text: string, file: string, by: CombineBy, names: string[],
     const [x, k, se] = r.values;
     if (!(k! > 0)) throw new InputError(`${file} line ${r.line}: k = ${k} is not positive; fit the run again, or remove the line.`);
     if (se !== null && !(se! > 0)) throw new InputError(`${file} line ${r.line}: k_se = ${se} is not positive; give the standard error of k, or leave the cell empty.`);
-    if (by === 'concentration' && !(x! > 0)) throw new InputError(`${file} line ${r.line}: concentration ${x} is not positive; give the reagent's concentration after mixing.`);
-    if (by === 'temperature' && !(celsiusToKelvin(x!) > 0)) throw new InputError(`${file} line ${r.line}: temperature ${x} °C is below absolute zero; give it in °C.`);
+    if (by === 'concentration' && !plausible.concentration_M(x! * factor)) throw new InputError(`${file} line ${r.line}: concentration ${x} is not ${PLAUSIBLE_WORDS.concentration_M}; give the reagent's concentration after mixing.`);
+    if (by === 'temperature' && !plausible.temperature_C(x!)) throw new InputError(`${file} line ${r.line}: temperature ${x} °C is not ${PLAUSIBLE_WORDS.temperature_C}; give it in °C.`);
     return { label: `${file} line ${r.line}`, x: x! * factor, xFrom: 'summary' as const, k_perSecond: k!, kStdErr_perSecond: se ?? null };
   });
 }
@@ -133,6 +136,9 @@ function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string
   if (time_s.length < MIN_POINTS_TO_ESTIMATE) {
     throw new InputError(`${file}: only ${time_s.length} reading(s); a fit needs at least ${MIN_POINTS_TO_ESTIMATE}. Record a longer run or leave this file out.`);
   }
+  // The same checks of a run as a whole as rateline analyze makes (times that advance, a swapped blank).
+  const problem = runProblem(time_s, absorbance, file);
+  if (problem) throw new InputError(problem);
   const analyzer = new RunAnalyzer();
   for (let i = 0; i < time_s.length; i++) analyzer.add(time_s[i]!, absorbance[i]!);
   const r = analyzer.flush();

@@ -11,6 +11,7 @@
 import { closeSync, openSync, writeSync } from 'node:fs';
 import { InputError } from '../common/cliErrors';
 import { parseCommandArguments } from '../common/arguments';
+import { SEED_WORDS, SPEED_WORDS, seedCheck, speedCheck } from '../common/benchRanges';
 import { DEMO_RUN, type SimulatedOrder } from '../../../kinetics/reactionModel';
 import { SimulatedInstrument, defaultInstrumentSettings } from '../../../acquisition/sources/simulatedInstrument';
 import { openFailureMessage, owningGroup } from '../../../acquisition/sources/portErrors';
@@ -65,8 +66,8 @@ export async function run(argv: string[]): Promise<number> {
   const path = args.value('port');
   if (!path) throw new InputError('rateline emulate: no --port PATH given; name the serial port to play on (see --help for a socat pair).');
   const baudRate = args.number('baud', (x) => Number.isInteger(x) && x >= 300 && x <= 4_000_000, 'a baud rate such as 9600 or 115200') ?? 115200;
-  const speed = args.number('speed', (x) => x > 0 && x <= 10_000, 'a speed factor between 0 and 10000') ?? 1;
-  const seed = args.number('seed', (x) => Number.isInteger(x), 'a whole number') ?? 1;
+  const speed = args.number('speed', speedCheck, SPEED_WORDS) ?? 1;
+  const seed = args.number('seed', seedCheck, SEED_WORDS) ?? 1;
   const order = parseOrder(args.value('order'));
   const k = args.number('k', (x) => x > 0, 'a positive rate constant') ?? DEMO_RUN.k;
   const a0 = args.number('a0', (x) => x > 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.a0;

@@ -48,7 +48,8 @@ export async function run(argv: string[]): Promise<number> {
   if (!file) throw new InputError('rateline export: no file given; usage: rateline export FILE --to jcamp|csv --out OUT.');
   if (extra.length > 0) throw new InputError(`rateline export: one file at a time; "${extra[0]}" is one too many.`);
   const to = args.value('to');
-  if (to !== 'jcamp' && to !== 'csv') throw new InputError(`rateline export: --to ${to ?? '(missing)'} is not known; use --to jcamp or --to csv.`);
+  if (to === undefined) throw new InputError('rateline export: no --to given; say which format, --to jcamp or --to csv.');
+  if (to !== 'jcamp' && to !== 'csv') throw new InputError(`rateline export: --to ${to} is not known; use --to jcamp or --to csv.`);
   const out = args.value('out');
   if (!out) throw new InputError('rateline export: no --out given; name the new file to write.');
   if (existsSync(out)) throw new InputError(`rateline export: ${out} exists already; an export never overwrites a file, so give a new name.`);

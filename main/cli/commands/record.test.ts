@@ -40,7 +40,7 @@ describe('rateline record: bad input is one clear line', () => {
     [['--simulate'], 'no --out given'],
     [['--simulate', '--out', 'x.jsonl', '--max-seconds', '0'], '--max-seconds 0 is not a positive number of seconds; give a positive number of seconds.'],
     [['--simulate', '--out', 'x.jsonl', '--max-seconds=-5'], '--max-seconds -5 is not a positive number of seconds'],
-    [['--simulate', '--out', 'x.jsonl', '--speed', 'fast'], '--speed fast is not a positive speed factor or max'],
+    [['--simulate', '--out', 'x.jsonl', '--speed', 'fast'], '--speed fast is not a speed factor from 0.01 to 10000, or max'],
     [['--simulate', '--out', 'x.jsonl', '--conc', 'hypochlorite'], '--conc "hypochlorite" is not NAME=VALUE UNIT'],
     [['--simulate', '--out', 'x.jsonl', '--colour', 'blue'], 'unknown option --colour; run "rateline record --help" for the options.'],
     [['--port', '/dev/ttyUSB0', '--out', 'x.jsonl', '--seed', '3'], 'for the simulated instrument only'],

@@ -19,6 +19,7 @@ import { SimulatedSource } from '../../../acquisition/sources/simulatedSource';
 import { defaultInstrumentSettings } from '../../../acquisition/sources/simulatedInstrument';
 import { EXIT_BAD_INPUT, EXIT_OK, InputError } from '../common/cliErrors';
 import { parseCommandArguments } from '../common/arguments';
+import { HALF_LIVES_WORDS, PLAUSIBLE_WORDS, SEED_WORDS, SPEED_WORDS, halfLivesCheck, plausible, seedCheck, speedCheck } from '../common/benchRanges';
 import { formatProgress, progressJson } from '../common/recordProgress';
 import { openSerialForRecord } from '../common/recordSerial';
 import { CalibrationFileError, readCalibrationFile, type CalibrationFile } from '../../../acquisition/files/calibrationFile';
@@ -93,12 +94,12 @@ export async function run(argv: string[]): Promise<number> {
   }
   const positive = (v: number): boolean => v > 0;
   const maxSeconds = args.number('max-seconds', positive, 'a positive number of seconds');
-  const halfLives = args.number('half-lives', positive, 'a positive number of half-lives');
+  const halfLives = args.number('half-lives', halfLivesCheck, HALF_LIVES_WORDS);
   const precision = args.number('precision', (v) => v > 0 && v < 1, 'a fraction between 0 and 1');
   const baud = args.number('baud', (v) => Number.isInteger(v) && v > 0, 'a whole positive baud rate') ?? 115200;
-  const seed = args.number('seed', Number.isInteger, 'a whole number') ?? 1;
-  const progressMs = args.number('progress-ms', (v) => v >= 50, 'at least 50 ms') ?? 1000;
-  const speed = args.value('speed') === 'max' ? 'max' : args.number('speed', positive, 'a positive speed factor or max') ?? 1;
+  const seed = args.number('seed', seedCheck, SEED_WORDS) ?? 1;
+  const progressMs = args.number('progress-ms', (v) => v >= 50 && v <= 3_600_000, 'from 50 ms to an hour (3600000 ms)') ?? 1000;
+  const speed = args.value('speed') === 'max' ? 'max' : args.number('speed', speedCheck, `${SPEED_WORDS}, or max`) ?? 1;
   const sends = args.choice('sends', ['absorbance', 'counts'], 'absorbance');
   const progressMode = args.choice('progress', ['text', 'json'], 'text');
   if (!simulate && (args.given('speed') || args.given('seed') || args.given('sends'))) {
@@ -132,9 +133,9 @@ export async function run(argv: string[]): Promise<number> {
     ...emptyRunMetadata(),
     sample: args.value('sample') ?? (simulate ? 'brilliant blue FCF + hypochlorite (demo)' : null),
     operator: args.value('operator') ?? null,
-    wavelength_nm: args.number('wavelength-nm', positive, 'a positive wavelength in nm') ?? (simulate ? 630 : null),
-    path_cm: args.number('path-cm', positive, 'a positive path length in cm') ?? null,
-    temperature_C: args.number('temperature-c', (v) => v > -273.15, 'a temperature in °C') ?? null,
+    wavelength_nm: args.number('wavelength-nm', plausible.wavelength_nm, PLAUSIBLE_WORDS.wavelength_nm) ?? (simulate ? 630 : null),
+    path_cm: args.number('path-cm', plausible.path_cm, PLAUSIBLE_WORDS.path_cm) ?? null,
+    temperature_C: args.number('temperature-c', plausible.temperature_C, PLAUSIBLE_WORDS.temperature_C) ?? null,
     pH: args.number('ph', (v) => v >= -2 && v <= 16, 'a pH') ?? null,
     buffer: args.value('buffer') ?? null,
     concentrations: args.values('conc').map(parseConcentration),
@@ -210,20 +211,22 @@ export async function run(argv: string[]): Promise<number> {
       say(`${p.journalled} readings recorded; the analysis failed (${err instanceof Error ? err.message : String(err)}).`);
     }
   };
-  if (progressMode === 'text') {
-    say(`rateline record: recording to ${out}${simulate ? ' from the simulated instrument (demo data)' : ` from ${port} at ${baud} baud${plain ? `, plain lines read as ${plain.canonical}` : ''}`}; Ctrl-C stops and closes the record.`);
-  }
   const ticker = setInterval(printProgress, progressMs);
   let outcome: RecorderOutcome;
   try {
     await recorder.start();
+    // Said once the instrument is open: a port that will not open gets its one sentence, and no "recording".
+    if (progressMode === 'text' && recorder.progress().phase !== 'stopped') {
+      say(`rateline record: recording to ${out}${simulate ? ' from the simulated instrument (demo data)' : ` from ${port} at ${baud} baud${plain ? `, plain lines read as ${plain.canonical}` : ''}`}; Ctrl-C stops and closes the record.`);
+    }
     outcome = await recorder.finished;
   } finally {
     clearInterval(ticker);
     process.off('SIGINT', onInt);
     process.off('SIGTERM', onTerm);
   }
-  if (outcome.readings > 0) printProgress();
+  // After a failed write the analysis holds readings the file does not: the error's count is the one to see.
+  if (outcome.readings > 0 && outcome.error === null) printProgress();
   return finish(out, outcome, progressMode, say);
 }
 
@@ -238,7 +241,9 @@ function finish(out: string, outcome: RecorderOutcome, mode: 'text' | 'json', sa
         // Leave it; it holds nothing that could be lost.
       }
     }
-    console.error(`rateline record: ${outcome.error ?? outcome.detail}${outcome.readings > 0 ? ` (${outcome.readings} readings are kept in ${out})` : ''}`);
+    // A failed write says itself how many readings the file holds; any other fault gets the count here.
+    if (outcome.error !== null) console.error(`rateline record: ${outcome.error}`);
+    else console.error(`rateline record: ${outcome.detail}${outcome.readings > 0 ? ` (${outcome.readings} readings are kept in ${out})` : ''}`);
     return EXIT_BAD_INPUT;
   }
   if (mode === 'json') {

@@ -56,7 +56,12 @@ export async function serve(o: ServeOptions, banner: (line: string) => void = (l
   try {
     await ensureRunsFolder(dataDir);
   } catch (err) {
-    throw new InputError(`rateline serve: cannot create the runs folder ${dataDir} (${(err as Error).message}); give another with --data-dir.`);
+    const code = (err as NodeJS.ErrnoException).code;
+    const why = code === 'EEXIST' || code === 'ENOTDIR' ? 'a file of that name is in the way'
+      : code === 'EACCES' || code === 'EPERM' ? 'no permission to create it there'
+        : code === 'EROFS' ? 'the disk is read-only'
+          : (err as Error).message;
+    throw new InputError(`rateline serve: cannot create the runs folder ${dataDir} (${why}); give another with --data-dir.`);
   }
   let staticDir: string | null = rendererOutDir(PROJECT_ROOT);
   if (o.build) {

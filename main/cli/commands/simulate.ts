@@ -4,9 +4,12 @@
  * the physical model in kinetics/reactionModel.ts (transmittance noise, so σ_A grows with
  * absorbance). Defaults are the demo scenario (DEMO.md), and the file says it is demo data.
  */
+import { statSync } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { InputError } from '../common/cliErrors';
 import { parseCommandArguments } from '../common/arguments';
+import { SEED_WORDS, seedCheck } from '../common/benchRanges';
+import { LONGEST_RUN_S } from '../../../acquisition/files/runPlausibility';
 import { DEMO_RUN, simulateRun, type SimulatedOrder, type SimulatedRunSpec } from '../../../kinetics/reactionModel';
 import { halfLife } from '../../../kinetics/halfLife';
 
@@ -62,10 +65,12 @@ export async function run(argv: string[]): Promise<number> {
   const k = args.number('k', (x) => x > 0, 'a positive rate constant') ?? demoK(order, a0, aInf);
   const sigmaT = args.number('noise-t', (x) => x >= 0 && x < 0.1, 'a transmittance noise between 0 and 0.1') ?? DEMO_RUN.sigmaT;
   const dt_s = args.number('dt', (x) => x > 0, 'a positive interval in seconds') ?? DEMO_RUN.dt_s;
-  const duration_s = args.number('duration', (x) => x > 0, 'a positive duration in seconds') ?? DEMO_RUN.duration_s;
+  const duration_s = args.number('duration', (x) => x > 0 && x <= LONGEST_RUN_S, `a duration in seconds above 0 and at most ${LONGEST_RUN_S.toExponential(0)} s`) ?? DEMO_RUN.duration_s;
   if (duration_s / dt_s > 2e7) throw new InputError(`rateline simulate: ${Math.round(duration_s / dt_s)} readings is too many; use a larger --dt or a shorter --duration (at most 2e7 readings).`);
-  const seed = args.number('seed', (x) => Number.isInteger(x), 'a whole number') ?? DEMO_RUN.seed;
+  const seed = args.number('seed', seedCheck, SEED_WORDS) ?? DEMO_RUN.seed;
   const spikes = args.number('spikes', (x) => Number.isInteger(x) && x >= 0, 'a whole number of spikes') ?? 0;
+  const readings = Math.floor(duration_s / dt_s + 1e-9) + 1;
+  if (spikes > readings) throw new InputError(`rateline simulate: --spikes ${spikes} is more than the ${readings} readings of the run; give at most ${readings}.`);
   const spec: SimulatedRunSpec = { order, k, a0, aInf, sigmaT, dt_s, duration_s, seed, spikes };
   const runData = simulateRun(spec);
   const lines = [
@@ -76,9 +81,14 @@ export async function run(argv: string[]): Promise<number> {
     lines.push(`${+runData.time_s[i].toPrecision(12)},${runData.absorbance[i].toFixed(6)}`);
   }
   try {
-    await writeFile(out, lines.join('\n') + '\n');
+    // 'wx': an existing file is never overwritten, as with every other command that writes one.
+    await writeFile(out, lines.join('\n') + '\n', { flag: 'wx' });
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
+    if (code === 'EEXIST') {
+      const what = statSync(out, { throwIfNoEntry: false })?.isDirectory() ? 'a folder' : 'a file';
+      throw new InputError(`rateline simulate: ${out} is already ${what}, and a file is never overwritten; choose another --out name.`);
+    }
     throw new InputError(`rateline simulate: cannot write ${out} (${code === 'ENOENT' ? 'no such folder' : code ?? String(err)}); choose another --out path.`);
   }
   console.log(`wrote ${runData.time_s.length} readings (0 to ${duration_s} s, demo data) to ${out}`);

@@ -70,7 +70,7 @@ describe('rateline start', () => {
       expect(lines.filter((l) => /Electron runtime/.test(l))).toHaveLength(1);
       expect(out).not.toMatch(/\bat .*\.js:\d+/); // no stack trace
       const origin = new URL(url).origin;
-      expect((await fetch(`${origin}/`)).status).toBe(403);
+      expect((await fetch(`${origin}/api/request`, { method: 'POST', body: '{"type":"getState"}' })).status).toBe(403); // no token, no answer
       const state = await fetch(`${origin}/api/request`, { method: 'POST', headers: { 'x-rateline-token': new URL(url).searchParams.get('token')! }, body: '{"type":"getState"}' });
       expect(state.status).toBe(200);
       const body = (await state.json()) as { ok: boolean; value: { dataDir: string; demo: boolean } };

@@ -5,6 +5,7 @@
 import { readUserText } from '../../../acquisition/files/runFile';
 import { calibrate, type Calibration, type CalibrationStandard } from '../../../kinetics/calibration';
 import { InputError } from './cliErrors';
+import { readableAbsorbanceProblem } from '../../../acquisition/protocol/absorbance';
 import { concentrationColumn, parseNumericTable, readHeader, type ConcentrationColumn } from '../../../acquisition/files/numericTable';
 
 export interface FittedStandards {
@@ -26,6 +27,10 @@ export async function fitStandardsFile(file: string, options: { pathLength_cm: n
   if (!table.ok) throw new InputError(table.error);
   const rows = table.table.rows;
   if (rows.length === 0) throw new InputError(`${file}: no standards below the header (line ${table.table.headerLine}); add one line per reading of a standard.`);
+  for (const r of rows) {
+    const unreadable = readableAbsorbanceProblem(r.values[1]!);
+    if (unreadable) throw new InputError(`${file} line ${r.line}: ${unreadable}; check that the column holds absorbance, or fix or remove the standard.`);
+  }
   const standards: CalibrationStandard[] = rows.map((r) => ({ concentration_M: r.values[0]! * unit.toMolar, absorbance: r.values[1]! }));
   const outcome = calibrate(standards, options);
   if (!outcome.ok) {
