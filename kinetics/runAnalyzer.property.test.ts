@@ -49,7 +49,13 @@ describe('RunAnalyzer against a batch fit of the same readings', () => {
           for (const m of ['zero', 'first', 'second'] as const) {
             const e = exact[m];
             const seK = Math.sqrt(e.covariance[0]);
-            expect(Math.abs(r.models[m].k! - e.params[0])).toBeLessThan(0.1 * seK);
+            // a zero-order line whose end (where A meets A∞) falls among the readings has a kink
+            // inside a bin, which the bin average approximates (readings taken as evenly spread,
+            // the within-bin scatter's covariance with the kink ignored): held to 0.2 SE there,
+            // as DEVELOPERS.md states; every smooth law, and zero order short of its end, to 0.1 SE
+            const z = r.models.zero;
+            const kinkInside = m === 'zero' && Math.abs(z.a0! - z.aInf!) / z.k! < run.time_s[run.time_s.length - 1];
+            expect(Math.abs(r.models[m].k! - e.params[0])).toBeLessThan((kinkInside ? 0.2 : 0.1) * seK);
             // the reported SE is the exact one's to within 10%; where A∞ rests on a bound it is
             // widened by the fit without the bound (boundedEnd.ts), never narrowed
             if (r.models[m].aInfAtBound === null) expect(Math.abs(r.models[m].kStdErr! / seK - 1)).toBeLessThan(0.1);
