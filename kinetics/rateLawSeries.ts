@@ -11,7 +11,7 @@
  * holds exactly one whole order; otherwise it is reported as undecided, with k given
  * only for the order the user may choose to assume.
  */
-import { fitSeriesLine, interval95, type UncertaintyBasis } from './seriesLine';
+import { fitSeriesLine, interval95, lineUncertainty, type LineUncertainty } from './seriesLine';
 
 export interface RateAtConcentration {
   /** Excess reagent concentration after mixing, mol/L. */
@@ -20,17 +20,6 @@ export interface RateAtConcentration {
   kObs_perSecond: number;
   kObsStdErr_perSecond?: number | null;
   label?: string;
-}
-
-/** How a line's uncertainty was had: for the report beside the numbers. */
-export interface LineUncertainty {
-  basis: UncertaintyBasis;
-  reason: string;
-  dof: number;
-  chiSquare: number | null;
-  birgeRatio: number | null;
-  /** z or t(dof) that multiplies the SE for the 95% interval. */
-  coverageFactor: number | null;
 }
 
 export interface RateLawResult {
@@ -101,13 +90,12 @@ export function rateLawFromSeries(runs: RateAtConcentration[]): RateLawOutcome {
   }
   const ratio = Math.max(...runs.map((r) => r.concentration_M)) / Math.min(...runs.map((r) => r.concentration_M));
   if (ratio < 3) warnings.push(`the concentrations span a factor of only ${ratio.toFixed(1)}; a factor of 4 or more pins the order down far better.`);
-  const uncertainty = (l: typeof logLine): LineUncertainty => ({ basis: l.basis, reason: l.basisReason, dof: l.dof, chiSquare: l.chiSquare, birgeRatio: l.birgeRatio, coverageFactor: l.coverageFactor });
   return {
     ok: true,
     order: m,
     orderStdErr: logLine.slopeStdErr,
     orderCI95: orderCi,
-    orderUncertainty: uncertainty(logLine),
+    orderUncertainty: lineUncertainty(logLine),
     wholeOrdersInInterval: inInterval,
     orderDecided: decided,
     nearestWholeOrder: whole,
@@ -115,7 +103,7 @@ export function rateLawFromSeries(runs: RateAtConcentration[]): RateLawOutcome {
     k: kLine.slope,
     kStdErr: kLine.slopeStdErr,
     kCI95: interval95(kLine.slope, kLine.slopeStdErr, kLine.coverageFactor),
-    kUncertainty: uncertainty(kLine),
+    kUncertainty: lineUncertainty(kLine),
     kUnit: whole === 0 ? 's^-1' : whole === 1 ? 'M^-1 s^-1' : `M^-${whole} s^-1`,
     lnKFreeOrder: logLine.intercept,
     lnKFreeOrderStdErr: logLine.interceptStdErr,

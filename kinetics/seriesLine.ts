@@ -53,6 +53,21 @@ export interface SeriesLine {
   warnings: string[];
 }
 
+/** How a line's uncertainty was had: for the report beside the numbers. */
+export interface LineUncertainty {
+  basis: UncertaintyBasis;
+  reason: string;
+  dof: number;
+  chiSquare: number | null;
+  birgeRatio: number | null;
+  /** z or t(dof) that multiplies the SE for the 95% interval. */
+  coverageFactor: number | null;
+}
+
+export function lineUncertainty(l: SeriesLine): LineUncertainty {
+  return { basis: l.basis, reason: l.basisReason, dof: l.dof, chiSquare: l.chiSquare, birgeRatio: l.birgeRatio, coverageFactor: l.coverageFactor };
+}
+
 export type SeriesLineOutcome = SeriesLine | { ok: false; error: string };
 
 const Z95 = normalQuantile(0.975);
@@ -139,8 +154,7 @@ export function fitSeriesLine(x: number[], y: number[], stdErrY: (number | null 
 }
 
 /** Standard error of a + b·x0 from the line's covariance (the full one: Var a + x0² Var b + 2 x0 Cov). */
-export function predictionStdErr(line: SeriesLine, x0: number): number | null {
-  const c = line.covariance;
+export function predictionStdErr(c: SeriesLine['covariance'], x0: number): number | null {
   if (!c) return null;
   const v = c.intercept + x0 * x0 * c.slope + 2 * x0 * c.interceptSlope;
   return v >= 0 ? Math.sqrt(v) : null;
