@@ -28,7 +28,7 @@ describe('global fit of a concentration series from its readings', () => {
     expect(g.readings).toBe(runs.reduce((s, r) => s + r.time_s.length, 0));
     // the oracle: the same model over stacked (run, time) points, parameters [k, m, a0_1, aInf_1, …]
     const xs: number[] = [], ys: number[] = [];
-    runs.forEach((r, j) => r.time_s.forEach((t, q) => { xs.push(j * 1e6 + t); ys.push(r.absorbance[q]!); }));
+    runs.forEach((r, j) => Array.from(r.time_s).forEach((t, q) => { xs.push(j * 1e6 + t); ys.push(r.absorbance[q]!); }));
     const model = (p: number[]) => (x: number) => {
       const j = Math.floor(x / 1e6), t = x - j * 1e6;
       return p[3 + 2 * j]! + (p[2 + 2 * j]! - p[3 + 2 * j]!) * Math.exp(-p[0]! * CONC[j]! ** p[1]! * t);
