@@ -22,6 +22,7 @@ const R = 8.314462618; // from memory: CODATA molar gas constant, J mol⁻¹ K�
 const kAt = (t_C: number) => K2 * 0.01 * Math.exp((-EA_J / R) * (1 / (t_C + 273.15) - 1 / 298.15));
 // handbook: Student t table, two-sided 95%: t(1) = 12.706, t(2) = 4.303, t(3) = 3.182
 const T1 = 12.706, T2 = 4.303, T3 = 3.182;
+const Z = 1.96; // handbook: normal quantile z(0.975)
 const inside = (ci: [number, number], x: number) => ci[0] < x && x < ci[1];
 const close = (a: number, b: number, rel: number) => expect(Math.abs(a - b)).toBeLessThanOrEqual(rel * Math.abs(b));
 
@@ -56,9 +57,22 @@ describe('rateline combine --by concentration, run for real', () => {
     expect(L.wholeOrderConsistent).toBe(true);
     expect(inside(L.kCI95, K2)).toBe(true);
     expect(L.kUnit).toBe('M^-1 s^-1');
-    // the intervals are t × SE: log–log line on 1 dof, k through the origin on 2 dof
-    close(L.orderCI95[1] - L.order, T1 * L.orderStdErr, 1e-3);
-    close(L.kCI95[1] - L.k, T2 * L.kStdErr, 1e-3);
+    // the intervals are z × SE (internal, Birge ratio ≤ 1) or t × SE (external: log–log line on 1 dof, k through the origin on 2 dof)
+    const factor = (u: { basis: string; birgeRatio: number }, t: number) => (u.basis === 'internal' ? Z : t);
+    expect(L.orderUncertainty.basis).toBe(L.orderUncertainty.birgeRatio <= 1 ? 'internal' : 'external');
+    close(L.orderCI95[1] - L.order, factor(L.orderUncertainty, T1) * L.orderStdErr, 1e-3);
+    close(L.kCI95[1] - L.k, factor(L.kUncertainty, T2) * L.kStdErr, 1e-3);
+    // handbook weighted least squares: χ² = Σ w (y − a − b x)², w = (k_obs/SE)², Birge ratio √(χ²/(N − 2))
+    const pts = j.runs.map((r: { concentration_M: number; k_perSecond: number; kStdErr_perSecond: number }) => ({ x: Math.log(r.concentration_M), y: Math.log(r.k_perSecond), w: (r.k_perSecond / r.kStdErr_perSecond) ** 2 }));
+    const chi2 = sum(pts.map((p: { x: number; y: number; w: number }) => p.w * (p.y - L.lnKFreeOrder - L.order * p.x) ** 2));
+    close(L.orderUncertainty.chiSquare, chi2, 1e-6);
+    close(L.orderUncertainty.birgeRatio, Math.sqrt(chi2 / 1), 1e-6);
+    // the global fit of all readings agrees with the two-step result
+    expect(j.global.ok).toBe(true);
+    expect(inside(j.global.fit.order.ci95, 1)).toBe(true);
+    expect(inside(j.global.fit.k.ci95, K2)).toBe(true);
+    expect(j.global.order.agree).toBe(true);
+    expect(j.global.k.agree).toBe(true);
     // negative control: a k2 10% off the demo value is outside the CI
     expect(inside(L.kCI95, 0.9 * K2)).toBe(false);
     j.runs.forEach((r: { concentration_M: number; k_perSecond: number; kStdErr_perSecond: number; xFrom: string }, i: number) => {
@@ -154,7 +168,7 @@ describe('rateline combine --by temperature, run for real', () => {
     const A = j.arrhenius;
     expect(A.points).toBe(5);
     expect(inside(A.activationEnergyCI95_kJPerMol, EA_J / 1000)).toBe(true);
-    close(A.activationEnergyCI95_kJPerMol[1] - A.activationEnergy_kJPerMol, T3 * A.activationEnergyStdErr_kJPerMol, 1e-3);
+    close(A.activationEnergyCI95_kJPerMol[1] - A.activationEnergy_kJPerMol, (A.uncertainty.basis === 'internal' ? Z : T3) * A.activationEnergyStdErr_kJPerMol, 1e-3);
     // handbook: A = k(T) exp(Ea/RT); the demo's A lies in the CI
     const aTrue = kAt(25) * Math.exp(EA_J / (R * 298.15));
     expect(inside(A.preExponentialCI95, aTrue)).toBe(true);
@@ -185,7 +199,9 @@ describe('rateline combine --by temperature, run for real', () => {
     const [r1, r2] = j.runs;
     const ea = (-R * Math.log(r2.k_perSecond / r1.k_perSecond)) / (1 / 308.15 - 1 / 288.15) / 1000;
     close(j.arrhenius.activationEnergy_kJPerMol, ea, 1e-9);
-    expect(j.arrhenius.warnings.join(' ')).toMatch(/no degrees of freedom/);
+    // two runs with their own SEs: the internal uncertainty, said so
+    expect(j.arrhenius.uncertainty.basis).toBe('internal');
+    expect(j.arrhenius.uncertainty.reason).toMatch(/no degree of freedom/);
   });
 
   it('reads a summary CSV: Ea and ln A agree with simple-statistics on (1/T, ln k)', () => {
