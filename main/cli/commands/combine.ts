@@ -343,7 +343,9 @@ export async function run(argv: string[]): Promise<number> {
 function withX(c: RunConditions, by: CombineBy, x: number, reagent: string | undefined): RunConditions {
   if (by === 'temperature') return { ...c, temperature_C: x };
   const name = reagent ?? 'excess reagent';
-  return { ...c, concentrations: [...c.concentrations.filter((q) => q.name.toLowerCase() !== name.toLowerCase()), { name, concentration_M: x }] };
+  const same = (q: { name: string }) => q.name.toLowerCase() === name.toLowerCase();
+  if (!c.concentrations.some(same)) return { ...c, concentrations: [...c.concentrations, { name, concentration_M: x }] };
+  return { ...c, concentrations: c.concentrations.map((q) => (same(q) ? { name: q.name, concentration_M: x } : q)) };
 }
 
 function json(v: unknown): string {

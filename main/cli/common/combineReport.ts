@@ -41,7 +41,7 @@ const g = (x: number | null, digits = 4): string => (x === null ? '—' : x !== 
 const ci = (c: [number, number] | null, se: number | null): string => (c && se !== null ? `95% CI ${formatInterval(c, se)}` : '95% CI not available');
 const from = (r: CombinedRun): string => (r.xFrom === 'header' ? 'record header' : r.xFrom === 'option' ? '--value' : r.xFrom === 'study' ? 'study file' : 'summary CSV');
 const how = (u: LineUncertainty): string => {
-  const stats = u.chiSquare === null ? '' : `χ² = ${u.chiSquare.toPrecision(3)} on ${u.dof} dof${u.birgeRatio === null ? '' : `, Birge ratio ${u.birgeRatio.toFixed(2)}`}; `;
+  const stats = u.chiSquare === null ? '' : `χ² = ${u.chiSquare.toPrecision(3)} on ${u.dof} dof; `;
   return `    (${stats}${u.reason})`;
 };
 
