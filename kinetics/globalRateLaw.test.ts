@@ -37,6 +37,15 @@ describe('global fit of a concentration series from its readings', () => {
       initialValues: [0.3, 0.9, 0.6, 0.02, 0.6, 0.02, 0.6, 0.02], maxIterations: 500, errorTolerance: 1e-14, improvementThreshold: 1e-12, damping: 1e-2, centralDifference: true, gradientDifference: 1e-7,
     });
     expect(Math.abs(g.order.value - theirs.parameterValues[1]!)).toBeLessThan(0.01 * g.order.stdErr!);
+    // and with the order held at 1: k alone shared, [k, a0_1, aInf_1, …]
+    const held = (p: number[]) => (x: number) => {
+      const j = Math.floor(x / 1e6), t = x - j * 1e6;
+      return p[2 + 2 * j]! + (p[1 + 2 * j]! - p[2 + 2 * j]!) * Math.exp(-p[0]! * CONC[j]! * t);
+    };
+    const theirsHeld = levenbergMarquardt({ x: xs, y: ys }, held, {
+      initialValues: [0.3, 0.6, 0.02, 0.6, 0.02, 0.6, 0.02], maxIterations: 500, errorTolerance: 1e-14, improvementThreshold: 1e-12, damping: 1e-2, centralDifference: true, gradientDifference: 1e-7,
+    });
+    expect(Math.abs(g.k.value - theirsHeld.parameterValues[0]!)).toBeLessThan(0.01 * g.k.stdErr!);
     // negative control: a global fit that ignored the concentrations (m = 0) is far off
     const zero = globalRateLawFit(runs, { k: 0.005, order: 0, heldOrder: 0 });
     if (!zero.ok) throw new Error(zero.error);

@@ -248,9 +248,9 @@ export async function run(argv: string[]): Promise<number> {
     details.set(file, { file, conditions, fit, readings: { time_s: t, absorbance: a } });
     saved.push({ file, conditions, included: true, leftOutReason: null });
   };
-  const inputs = study
-    ? study.inputs.map((i) => ({ file: i.file, text: i.text, studyRun: i.run }))
-    : await Promise.all(args.positionals.map(async (file) => ({ file, text: await readUserText(file, 'a run file (.jsonl or .csv)'), studyRun: null as StudyRun | null })));
+  // Read one after another, so that the first bad file named is the one reported.
+  const inputs: { file: string; text: string; studyRun: StudyRun | null }[] = study ? study.inputs.map((i) => ({ file: i.file, text: i.text, studyRun: i.run })) : [];
+  if (!study) for (const file of args.positionals) inputs.push({ file, text: await readUserText(file, 'a run file (.jsonl or .csv)'), studyRun: null });
   if (study?.newerRevision) console.error(`rateline combine: note: ${study.path} is version ${study.study.revision}; version ${study.newerRevision} beside it is the current one.`);
   for (const { file, text, studyRun } of inputs) {
     if (studyRun && !studyRun.included) { leftOut.push({ label: file, reason: `left out in the study: ${studyRun.leftOutReason}` }); continue; }
