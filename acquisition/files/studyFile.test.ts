@@ -71,6 +71,15 @@ describe('study file', () => {
     expect(message(() => parseStudyFile(readFileSync(p2, 'utf8'), 's.v7.study.json'))).toMatch(/file name says s version 7 but the file holds s version 1/);
   });
 
+  it('checks the calibration in use like a run', () => {
+    const dir = folderWithRuns();
+    writeFileSync(join(dir, 'cal.json'), '{"demo":true}\n');
+    const p = saveStudy(dir, 'cal', { ...draft(dir), calibration: { path: 'cal.json', sha256: sha256Hex(readFileSync(join(dir, 'cal.json'))) } }, SAVED);
+    expect(loadStudy(p).study.calibration!.path).toBe('cal.json');
+    writeFileSync(join(dir, 'cal.json'), '{"demo":false}\n');
+    expect(message(() => loadStudy(p))).toMatch(/: the calibration \(cal\.json\) has changed since the study was saved \(its SHA-256 differs\)/);
+  });
+
   it('keeps runs inside the study folder', () => {
     const dir = folderWithRuns();
     expect(studyRelativePath(dir, join(dir, 'runs', 'c1.csv'))).toBe('runs/c1.csv');
