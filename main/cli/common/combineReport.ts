@@ -45,6 +45,8 @@ const how = (u: LineUncertainty): string => {
   return `    (${stats}${u.reason})`;
 };
 
+const capitalised = (s: string): string => s.charAt(0).toUpperCase() + s.slice(1);
+
 function table(rows: string[][]): string[] {
   const widths = rows[0]!.map((_, j) => Math.max(...rows.map((r) => r[j]!.length)));
   return rows.map((r) => r.map((c, j) => c.padEnd(widths[j]!)).join('  ').trimEnd());
@@ -71,7 +73,7 @@ export function formatCombinedText(o: CombinedOutput): string {
       out.push(`  order m = ${formatWithUncertainty(G.order.value, G.order.stdErr)}   ${ci(G.order.ci95, G.order.stdErr)}`);
       out.push(`  k (order held at ${G.heldOrder}) = ${formatWithUncertainty(G.k.value, G.k.stdErr)} ${L.kUnit}   ${ci(G.k.ci95, G.k.stdErr)}`);
       out.push(`  ${o.global.order.sentence}`, `  ${o.global.k.sentence}`);
-    } else out.push(`Global fit: ${o.global.reason}`);
+    } else out.push(capitalised(o.global.reason));
     if (o.isolation.checks.length > 0) {
       const low = Math.min(...o.isolation.checks.map((c) => c.excessRatio));
       out.push(`Isolation: the excess reagent is at least ${low.toPrecision(3)} times the followed species (about 10 is needed)${o.isolation.checks.every((c) => c.sufficient) ? '' : '; see the warnings'}.`);
@@ -96,7 +98,7 @@ export function formatCombinedText(o: CombinedOutput): string {
       out.push(`  ΔS‡ = ${formatWithUncertainty(E.activationEntropy_JPerMolK, E.activationEntropyStdErr_JPerMolK)} J/(mol K)   ${ci(E.activationEntropyCI95_JPerMolK, E.activationEntropyStdErr_JPerMolK)}`);
       out.push(`  ΔG‡(${E.gibbsTemperature_K} K) = ${formatWithUncertainty(E.activationGibbs_kJPerMol, E.activationGibbsStdErr_kJPerMol)} kJ/mol   ${ci(E.activationGibbsCI95_kJPerMol, E.activationGibbsStdErr_kJPerMol)}`);
       out.push(how(E.uncertainty));
-    } else out.push(`Eyring: ${o.eyring.reason}`);
+    } else out.push(capitalised(o.eyring.reason));
     if (o.prediction) {
       const P = o.prediction;
       out.push(`Predicted at ${P.temperature_C} °C: k = ${g(P.k)} ${o.kUnit}   95% CI ${P.kCI95 ? `[${g(P.kCI95[0])}, ${g(P.kCI95[1])}]` : 'not available'} (from ln A and Ea with their covariance)${P.outsideMeasuredRange ? ' — outside the measured temperatures, see the warnings' : ''}`);
