@@ -349,6 +349,10 @@ describe('rateline combine refuses bad input in one line, exit 2', () => {
     ['a damaged run record', () => { writeFileSync(join(dir, 'bad.jsonl'), [JSON.stringify(demoHeader()), '[0,0.6,0]', '[1,"x",1000]', '[2,0.5,2000]', ''].join('\n')); return ['bad.jsonl', 'c0.01.csv', '--by', 'temperature']; },
       /^bad\.jsonl line 3: not a valid reading .*: keep a copy, then repair or remove that line\.$/],
     ['a missing file', () => ['nope.jsonl', 'c0.01.csv', '--by', 'temperature'], /^nope\.jsonl: no such file; check the path\.$/],
+    ['--predict-at-c by concentration', () => ['c0.01.csv', 'c0.02.csv', '--by', 'concentration', '--predict-at-c', '40'], /^rateline combine: --predict-at-c goes with --by temperature; leave it out for --by concentration\.$/],
+    ['a study file and run files together', () => { writeFileSync(join(dir, 'x.v1.study.json'), '{}'); return ['x.v1.study.json', 'c0.01.csv']; }, /^rateline combine: give a study file or run files, not both/],
+    ['a study file that is not one', () => { writeFileSync(join(dir, 'y.v1.study.json'), '{"format":"other"}'); return ['y.v1.study.json']; }, /^y\.v1\.study\.json: not a valid study file at format \(.*\); keep a copy, then repair it or save the study again\.$/],
+    ['a summary CSV kept in a study', () => { writeFileSync(join(dir, 'temps2.csv'), 'temperature_C,k\n15,0.00178\n25,0.00349\n'); return ['temps2.csv', '--by', 'temperature', '--save-study', 's', '--reagent', 'b', '--followed', 'a', '--safety-note', 'demo']; }, /^rateline combine: temps2\.csv is a summary CSV; a study names run files, so --save-study cannot keep it\.$/],
   ];
   it.each(bad)('%s', (_what, argv, message) => {
     const r = rateline('combine', ...argv());
