@@ -46,6 +46,27 @@ describe('rate law from an excess-reagent series', () => {
     expect(r.warnings.join(' ')).toMatch(/not consistent/);
   });
 
+  it('three runs almost exactly on the line: the interval comes from their own SEs, so order 1 stays consistent', () => {
+    // k_obs off the line by a few parts in 10⁵, each run good to 0.1%
+    const runs = demo.map((d, i) => {
+      const kObs = d.kObs_perSecond * [1.00001, 0.99998, 1.00002][i]!;
+      return { concentration_M: d.concentration_M, kObs_perSecond: kObs, kObsStdErr_perSecond: 1e-3 * kObs };
+    });
+    const r = rateLawFromSeries(runs);
+    if (!r.ok) throw new Error(r.error);
+    expect(r.orderUncertainty.basis).toBe('internal');
+    expect(r.wholeOrderConsistent).toBe(true);
+    expect(r.orderDecided).toBe(true);
+    // handbook weighted least squares: SE(m) = 1/√Σw(x − x̄)², w = 1/σ², σ = 10⁻³ in ln k_obs
+    const x = demo.map((d) => Math.log(d.concentration_M));
+    const xb = x.reduce((a, b) => a + b, 0) / x.length;
+    expect(r.orderStdErr!).toBeCloseTo(1e-3 / Math.sqrt(x.reduce((a, v) => a + (v - xb) ** 2, 0)), 12);
+    // negative control: from the scatter alone (no SEs) the interval shrinks far below the runs' precision
+    const scatterOnly = rateLawFromSeries(runs.map(({ kObsStdErr_perSecond: _se, ...rest }) => rest));
+    if (!scatterOnly.ok) throw new Error(scatterOnly.error);
+    expect(scatterOnly.orderStdErr!).toBeLessThan(r.orderStdErr! / 10);
+  });
+
   it('says what is wrong with unusable input', () => {
     expect(rateLawFromSeries([demo[0]!])).toMatchObject({ ok: false });
     expect(rateLawFromSeries([demo[0]!, { ...demo[0]! }])).toMatchObject({ ok: false, error: expect.stringMatching(/same concentration/) });

@@ -1,5 +1,6 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { readFileSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
 import { join } from 'node:path';
 import { linearRegression, sum } from 'simple-statistics';
 import { demoHeader } from '../../../test/fixtures/demoRecordHeader';
@@ -22,6 +23,7 @@ const R = 8.314462618; // from memory: CODATA molar gas constant, J mol⁻¹ K�
 const kAt = (t_C: number) => K2 * 0.01 * Math.exp((-EA_J / R) * (1 / (t_C + 273.15) - 1 / 298.15));
 // handbook: Student t table, two-sided 95%: t(1) = 12.706, t(2) = 4.303, t(3) = 3.182
 const T1 = 12.706, T2 = 4.303, T3 = 3.182;
+const Z = 1.96; // handbook: normal quantile z(0.975)
 const inside = (ci: [number, number], x: number) => ci[0] < x && x < ci[1];
 const close = (a: number, b: number, rel: number) => expect(Math.abs(a - b)).toBeLessThanOrEqual(rel * Math.abs(b));
 
@@ -56,9 +58,22 @@ describe('rateline combine --by concentration, run for real', () => {
     expect(L.wholeOrderConsistent).toBe(true);
     expect(inside(L.kCI95, K2)).toBe(true);
     expect(L.kUnit).toBe('M^-1 s^-1');
-    // the intervals are t × SE: log–log line on 1 dof, k through the origin on 2 dof
-    close(L.orderCI95[1] - L.order, T1 * L.orderStdErr, 1e-3);
-    close(L.kCI95[1] - L.k, T2 * L.kStdErr, 1e-3);
+    // the intervals are z × SE (internal, Birge ratio ≤ 1) or t × SE (external: log–log line on 1 dof, k through the origin on 2 dof)
+    const factor = (u: { basis: string; birgeRatio: number }, t: number) => (u.basis === 'internal' ? Z : t);
+    expect(L.orderUncertainty.basis).toBe(L.orderUncertainty.birgeRatio <= 1 ? 'internal' : 'external');
+    close(L.orderCI95[1] - L.order, factor(L.orderUncertainty, T1) * L.orderStdErr, 1e-3);
+    close(L.kCI95[1] - L.k, factor(L.kUncertainty, T2) * L.kStdErr, 1e-3);
+    // handbook weighted least squares: χ² = Σ w (y − a − b x)², w = (k_obs/SE)², Birge ratio √(χ²/(N − 2))
+    const pts = j.runs.map((r: { concentration_M: number; k_perSecond: number; kStdErr_perSecond: number }) => ({ x: Math.log(r.concentration_M), y: Math.log(r.k_perSecond), w: (r.k_perSecond / r.kStdErr_perSecond) ** 2 }));
+    const chi2 = sum(pts.map((p: { x: number; y: number; w: number }) => p.w * (p.y - L.lnKFreeOrder - L.order * p.x) ** 2));
+    close(L.orderUncertainty.chiSquare, chi2, 1e-6);
+    close(L.orderUncertainty.birgeRatio, Math.sqrt(chi2 / 1), 1e-6);
+    // the global fit of all readings agrees with the two-step result
+    expect(j.global.ok).toBe(true);
+    expect(inside(j.global.fit.order.ci95, 1)).toBe(true);
+    expect(inside(j.global.fit.k.ci95, K2)).toBe(true);
+    expect(j.global.order.agree).toBe(true);
+    expect(j.global.k.agree).toBe(true);
     // negative control: a k2 10% off the demo value is outside the CI
     expect(inside(L.kCI95, 0.9 * K2)).toBe(false);
     j.runs.forEach((r: { concentration_M: number; k_perSecond: number; kStdErr_perSecond: number; xFrom: string }, i: number) => {
@@ -154,7 +169,7 @@ describe('rateline combine --by temperature, run for real', () => {
     const A = j.arrhenius;
     expect(A.points).toBe(5);
     expect(inside(A.activationEnergyCI95_kJPerMol, EA_J / 1000)).toBe(true);
-    close(A.activationEnergyCI95_kJPerMol[1] - A.activationEnergy_kJPerMol, T3 * A.activationEnergyStdErr_kJPerMol, 1e-3);
+    close(A.activationEnergyCI95_kJPerMol[1] - A.activationEnergy_kJPerMol, (A.uncertainty.basis === 'internal' ? Z : T3) * A.activationEnergyStdErr_kJPerMol, 1e-3);
     // handbook: A = k(T) exp(Ea/RT); the demo's A lies in the CI
     const aTrue = kAt(25) * Math.exp(EA_J / (R * 298.15));
     expect(inside(A.preExponentialCI95, aTrue)).toBe(true);
@@ -185,7 +200,9 @@ describe('rateline combine --by temperature, run for real', () => {
     const [r1, r2] = j.runs;
     const ea = (-R * Math.log(r2.k_perSecond / r1.k_perSecond)) / (1 / 308.15 - 1 / 288.15) / 1000;
     close(j.arrhenius.activationEnergy_kJPerMol, ea, 1e-9);
-    expect(j.arrhenius.warnings.join(' ')).toMatch(/no degrees of freedom/);
+    // two runs with their own SEs: the internal uncertainty, said so
+    expect(j.arrhenius.uncertainty.basis).toBe('internal');
+    expect(j.arrhenius.uncertainty.reason).toMatch(/no degree of freedom/);
   });
 
   it('reads a summary CSV: Ea and ln A agree with simple-statistics on (1/T, ln k)', () => {
@@ -202,6 +219,115 @@ describe('rateline combine --by temperature, run for real', () => {
     expect(A.weighted).toBe(false);
     // negative control: in °C instead of K the slope is far from it
     expect(Math.abs(linearRegression(rows.map(([t, k]) => [1 / t, Math.log(k)])).m * -R / 1000 - A.activationEnergy_kJPerMol)).toBeGreaterThan(1);
+  });
+});
+
+describe('rateline combine: the order undecided, isolation, Eyring, prediction', () => {
+  it('runs whose order in B cannot be decided say so and give no confident m', () => {
+    // a narrow range of concentrations and runs good to 20%: the interval of m holds 0, 1 and 2 (demo data)
+    const rows: [number, number, number][] = [0.010, 0.012, 0.014].map((c, i) => [c, K2 * c * [1.002, 0.998, 1.001][i]!, 0.2 * K2 * c]);
+    writeFileSync(join(dir, 'narrow.csv'), 'concentration_M,k,k_se\n' + rows.map((r) => r.join(',')).join('\n') + '\n');
+    const L = json('combine', 'narrow.csv', '--by', 'concentration').rateLaw;
+    expect(L.orderDecided).toBe(false);
+    expect(L.wholeOrdersInInterval.length).toBeGreaterThan(1);
+    expect(L.warnings.join(' ')).toMatch(/the order in the excess reagent cannot be decided: its 95% interval \[.*\] holds the orders 0, 1, 2/);
+    const text = rateline('combine', 'narrow.csv', '--by', 'concentration').out;
+    expect(text).toMatch(/order m undecided: its 95% interval \[-?\d.*\] holds the orders 0, 1, 2/);
+    expect(text).not.toMatch(/order m = /);
+    expect(text).toMatch(/k \(order assumed to be 1\) = /);
+    // negative control: the same k with SEs forty times smaller (0.5%) decide the order
+    writeFileSync(join(dir, 'narrow-precise.csv'), 'concentration_M,k,k_se\n' + rows.map(([c, k, se]) => [c, k, se / 40].join(',')).join('\n') + '\n');
+    expect(json('combine', 'narrow-precise.csv', '--by', 'concentration').rateLaw.orderDecided).toBe(true);
+  });
+
+  it('warns when the excess reagent is too little over the followed species, with the bias of k_obs', () => {
+    // the demo runs' records, the followed dye listed at 2 mM: [B]/[A] = 5, 10 and 20
+    CONC.forEach((c, i) => writeRecord(`iso${i}.jsonl`, `c${c}.csv`, { concentrations: [{ name: 'hypochlorite', value: c * 1000, unit: 'mM' }, { name: 'dye', value: 2, unit: 'mM' }] }));
+    const j = json('combine', 'iso0.jsonl', 'iso1.jsonl', 'iso2.jsonl', '--by', 'concentration', '--reagent', 'hypochlorite', '--followed', 'dye');
+    const ratios = j.isolation.checks.map((c: { excessRatio: number }) => c.excessRatio);
+    ratios.forEach((r: number, i: number) => close(r, [5, 10, 20][i]!, 1e-9)); // [B]/(ν [A]), ν = 1
+    expect(j.isolation.checks.map((c: { sufficient: boolean }) => c.sufficient)).toEqual([false, true, true]);
+    const w = j.warnings.find((x: string) => x.startsWith('iso0.jsonl'));
+    // estimate: k_obs low by ν[A]₀f/(2[B]₀) with f the run's observed conversion
+    const f = j.isolation.checks[0].conversionUsed;
+    close(-j.isolation.checks[0].kObsBiasRelative, (0.002 * f) / (2 * 0.01), 1e-9);
+    expect(w).toMatch(/^iso0\.jsonl: the excess reagent is only 5\.0 times the followed species \(about 10 is needed\), so it is used up as the run goes: with \d+% converted, k_obs is about \d+\.\d% low/);
+    // with a stoichiometry of 2 mol per mol, the second run falls short as well
+    const j2 = json('combine', 'iso0.jsonl', 'iso1.jsonl', 'iso2.jsonl', '--by', 'concentration', '--reagent', 'hypochlorite', '--followed', 'dye', '--stoichiometry', '2');
+    expect(j2.isolation.checks.map((c: { sufficient: boolean }) => c.sufficient)).toEqual([false, false, true]);
+  });
+
+  it('Eyring from k = k_obs/[B] in M⁻¹ s⁻¹, and k predicted at a named temperature', () => {
+    TEMPS.forEach((t) => writeRecord(`ey${t}.jsonl`, `t${t}.csv`, { temperature_C: t, concentrations: [{ name: 'hypochlorite', value: 10, unit: 'mM' }] }));
+    const files = TEMPS.map((t) => `ey${t}.jsonl`);
+    const j = json('combine', ...files, '--by', 'temperature', '--reagent', 'hypochlorite', '--predict-at-c', '30');
+    expect(j.rateConstant).toBe('k');
+    expect(j.kUnit).toBe('M^-1 s^-1');
+    const E = j.eyring;
+    expect(E.ok).toBe(true);
+    // the demo's k(T) (Arrhenius, Ea = 48 kJ/mol) through the Eyring line, exact values, by simple-statistics (oracle)
+    const ref = linearRegression(TEMPS.map((t) => [1 / (t + 273.15), Math.log(kAt(t) / 0.01 / (t + 273.15))]));
+    const dH = (-ref.m * R) / 1000;
+    const dS = (ref.b - Math.log(1.380649e-23 / 6.62607015e-34)) * R; // CODATA 2018 k_B and h
+    expect(inside(E.activationEnthalpyCI95_kJPerMol, dH)).toBe(true);
+    expect(inside(E.activationEntropyCI95_JPerMolK, dS)).toBe(true);
+    // handbook: for a reaction in solution Ea = ΔH‡ + RT (here at 298 K, to 0.1 kJ/mol over 15–35 °C)
+    expect(Math.abs(j.arrhenius.activationEnergy_kJPerMol - E.activationEnthalpy_kJPerMol - (R * 298.15) / 1000)).toBeLessThan(0.1);
+    // negative control: ΔH‡ is not Ea
+    expect(inside(E.activationEnthalpyCI95_kJPerMol, 48)).toBe(false);
+    expect(E.assumptions).toMatch(/k = k_obs\/\[B\]\^m in M\^-1 s\^-1, transmission coefficient 1, standard state c° = 1 mol dm⁻³; ΔG‡ at 298\.15 K/);
+    const P = j.prediction;
+    expect(P.outsideMeasuredRange).toBe(false);
+    expect(inside(P.kCI95, kAt(30) / 0.01)).toBe(true);
+    const text = rateline('combine', ...files, '--by', 'temperature', '--reagent', 'hypochlorite', '--predict-at-c', '50').out;
+    expect(text).toMatch(/ΔH‡ = 4\d\.\d+ ± \d\.\d+ kJ\/mol/);
+    expect(text).toMatch(/ΔG‡\(298\.15 K\) = /);
+    expect(text).toMatch(/Predicted at 50 °C: k = .* outside the measured temperatures/);
+    expect(text).toMatch(/50 °C lies outside the measured temperatures \(15–35 °C\)/);
+    // without [B] there is no Eyring line, and it says why
+    const noB = json('combine', ...TEMPS.map((t) => `t${t}.csv`), '--by', 'temperature', '--value', ...TEMPS.map((t) => `t${t}.csv=${t}`));
+    expect(noB.rateConstant).toBe('kObs');
+    expect(noB.eyring.reason).toMatch(/^no Eyring line: it needs k in M⁻¹ s⁻¹/);
+  });
+});
+
+describe('rateline combine and the study file', () => {
+  it('saves a study, combines it again to the same result, and finds a changed run', () => {
+    CONC.forEach((c, i) => writeRecord(`st${i}.jsonl`, `c${c}.csv`, { concentrations: [{ name: 'hypochlorite', value: c, unit: 'M' }, { name: 'dye', value: 5, unit: 'µM' }] }));
+    const files = CONC.map((_, i) => `st${i}.jsonl`);
+    const direct = json('combine', ...files, 'second.csv', '--by', 'concentration', '--reagent', 'hypochlorite', '--followed', 'dye', '--value', 'second.csv=0.03',
+      '--save-study', 'bleach', '--safety-note', 'demo: sodium hypochlorite is corrosive; eye protection.');
+    expect(direct.savedStudy).toMatch(/bleach\.v1\.study\.json$/);
+    const study = JSON.parse(readFileSync(join(dir, 'bleach.v1.study.json'), 'utf8'));
+    expect(study.runs).toHaveLength(4);
+    expect(study.runs[3]).toMatchObject({ path: 'second.csv', included: false, leftOutReason: expect.stringMatching(/its order is/) });
+    const conc = study.runs[0].conditions.concentrations;
+    expect(conc.map((c: { name: string }) => c.name)).toEqual(['hypochlorite', 'dye']);
+    close(conc[0].concentration_M, 0.01, 1e-12);
+    close(conc[1].concentration_M, 5e-6, 1e-12); // 5 µM × 10⁻⁶
+    // SHA-256 of the run's bytes (node:crypto, FIPS 180-4)
+    expect(study.runs[0].sha256).toBe(createHash('sha256').update(readFileSync(join(dir, 'st0.jsonl'))).digest('hex'));
+    const again = json('combine', 'bleach.v1.study.json');
+    expect(again.rateLaw.order).toBe(direct.rateLaw.order);
+    expect(again.rateLaw.k).toBe(direct.rateLaw.k);
+    expect(again.leftOut[0].reason).toMatch(/^left out in the study: its order is/);
+    expect(again.isolation.checks).toHaveLength(3);
+    // a second save is version 2 beside version 1; reading version 1 then says which is current
+    json('combine', ...files, '--by', 'concentration', '--reagent', 'hypochlorite', '--followed', 'dye', '--save-study', 'bleach', '--safety-note', 'demo');
+    expect(readFileSync(join(dir, 'bleach.v1.study.json'), 'utf8')).toBe(JSON.stringify(study, null, 2) + '\n');
+    expect(rateline('combine', 'bleach.v1.study.json').err).toMatch(/bleach\.v1\.study\.json is version 1; version 2 beside it is the current one/);
+    // a run changed since: one sentence, exit 2, nothing printed
+    writeFileSync(join(dir, 'st1.jsonl'), readFileSync(join(dir, 'st1.jsonl'), 'utf8') + '\n');
+    const r = rateline('combine', 'bleach.v2.study.json');
+    expect(r.code).toBe(2);
+    expect(r.out).toBe('');
+    expect(r.err.trim()).toBe('bleach.v2.study.json: run 2 (st1.jsonl) has changed since the study was saved (its SHA-256 differs); restore the original, or save a new version of the study with it.');
+  });
+
+  it('refuses to save a study without its reagent names or safety note', () => {
+    const r = rateline('combine', 'c0.01.csv', 'c0.02.csv', '--by', 'concentration', '--value', 'c0.01.csv=0.01', 'c0.02.csv=0.02', '--save-study', 'x', '--reagent', 'hypochlorite', '--followed', 'dye');
+    expect(r.code).toBe(2);
+    expect(r.err.trim()).toBe('rateline combine: --save-study needs --safety-note TEXT on the hazards of the reagents and how they are handled.');
   });
 });
 
@@ -223,6 +349,10 @@ describe('rateline combine refuses bad input in one line, exit 2', () => {
     ['a damaged run record', () => { writeFileSync(join(dir, 'bad.jsonl'), [JSON.stringify(demoHeader()), '[0,0.6,0]', '[1,"x",1000]', '[2,0.5,2000]', ''].join('\n')); return ['bad.jsonl', 'c0.01.csv', '--by', 'temperature']; },
       /^bad\.jsonl line 3: not a valid reading .*: keep a copy, then repair or remove that line\.$/],
     ['a missing file', () => ['nope.jsonl', 'c0.01.csv', '--by', 'temperature'], /^nope\.jsonl: no such file; check the path\.$/],
+    ['--predict-at-c by concentration', () => ['c0.01.csv', 'c0.02.csv', '--by', 'concentration', '--predict-at-c', '40'], /^rateline combine: --predict-at-c goes with --by temperature; leave it out for --by concentration\.$/],
+    ['a study file and run files together', () => { writeFileSync(join(dir, 'x.v1.study.json'), '{}'); return ['x.v1.study.json', 'c0.01.csv']; }, /^rateline combine: give a study file or run files, not both/],
+    ['a study file that is not one', () => { writeFileSync(join(dir, 'y.v1.study.json'), '{"format":"other"}'); return ['y.v1.study.json']; }, /^y\.v1\.study\.json: not a valid study file at format \(.*\); keep a copy, then repair it or save the study again\.$/],
+    ['a summary CSV kept in a study', () => { writeFileSync(join(dir, 'temps2.csv'), 'temperature_C,k\n15,0.00178\n25,0.00349\n'); return ['temps2.csv', '--by', 'temperature', '--save-study', 's', '--reagent', 'b', '--followed', 'a', '--safety-note', 'demo']; }, /^rateline combine: temps2\.csv is a summary CSV; a study names run files, so --save-study cannot keep it\.$/],
   ];
   it.each(bad)('%s', (_what, argv, message) => {
     const r = rateline('combine', ...argv());
