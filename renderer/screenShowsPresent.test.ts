@@ -40,8 +40,11 @@ describe('the screen shows the present', () => {
     // After Stop the run stays, labelled stopped elsewhere.
     expect(store.get().pointCount).toBe(50);
     expect(store.get().analysis).not.toBeNull();
-    // A replay source being connected, same run id still on the service: the old answer goes.
+    // A connection being tried (it may fail) leaves the last run in view.
     applyEvent(store, state('connecting'), 0);
+    expect(store.get().pointCount).toBe(50);
+    // A replay source connected, same run id still on the service: the old answer goes.
+    applyEvent(store, state('connected'), 0);
     expect(store.get().pointCount).toBe(0);
     expect(store.get().analysis).toBeNull();
     expect(store.get().messages.map((m) => m.level)).toEqual(['warning']);
