@@ -202,6 +202,32 @@ describe('run screen against the real bench service', () => {
     expect(session.problems).toEqual([]);
   });
 
+  it('keeps k whole at 1000 px wide and grows every text, the chart axes too, in the large-text mode', async () => {
+    const { page } = session.browser;
+    await expect.poll(async () => page.getByTestId('k').textContent(), { timeout: 20_000 }).toMatch(/±/);
+    const whole = async () => page.evaluate(() => {
+      const k = document.querySelector('[data-testid="k"]')!;
+      const panel = k.closest('.panel')!;
+      const a = k.getBoundingClientRect(), b = panel.getBoundingClientRect();
+      return a.left >= b.left && a.right <= b.right + 0.5;
+    });
+    for (const width of [1000, 1024, 1280]) {
+      await page.setViewportSize({ width, height: 768 });
+      await page.waitForTimeout(300);
+      expect(await whole(), `k inside its panel at ${width} px`).toBe(true);
+    }
+    const rootPx = () => page.evaluate(() => parseFloat(getComputedStyle(document.documentElement).fontSize));
+    const normal = await rootPx();
+    await page.getByRole('button', { name: 'Large text' }).click();
+    expect(await rootPx()).toBeGreaterThan(normal * 1.3);
+    await page.waitForTimeout(500);
+    expect(await whole()).toBe(true);
+    await page.screenshot({ path: join(ARTIFACTS, 'run-screen-large-text.png') });
+    await page.getByRole('button', { name: 'Large text' }).click();
+    expect(await rootPx()).toBe(normal);
+    await page.setViewportSize({ width: 1280, height: 800 });
+  });
+
   // Last: it ends the service.
   it('says plainly when the bench service goes away, and keeps what it shows', async () => {
     const { page } = session.browser;
