@@ -26,6 +26,9 @@ export function adviceWords(result: AnalysisResultView | null, running: boolean)
     };
   }
   const s = result.stop;
+  // Once the run is over, advice in the present tense ("stop now", "keep going") would be read
+  // as current: say where the run ended instead.
+  if (!running) return endedWords(result);
   let earlyStop: string | null = null;
   if (s.earlyStopPossible && !s.suggested && s.kRelCI95Now !== null) {
     const then = s.kRelCI95AtTarget !== null ? `, against ±${formatPercent(s.kRelCI95AtTarget, 1).replace(' ', '')} at the target` : '';
@@ -56,8 +59,24 @@ export function adviceWords(result: AnalysisResultView | null, running: boolean)
   }
 }
 
+/** Where a run that is no longer going ended, against its target, in the past tense. */
+function endedWords(result: AnalysisResultView): AdviceWords {
+  const s = result.stop;
+  const done = result.halfLivesElapsed;
+  const reached = s.state === 'farEnough' || (done !== null && done >= result.targetHalfLives);
+  const where = done === null ? 'The run is over' : `The run ended at ${done.toFixed(done < 10 ? 2 : 1)} half-lives`;
+  const precision = s.kRelCI95Now !== null ? `; k is known to ±${formatPercent(s.kRelCI95Now, 1).replace(' ', '')} (95 % CI)` : '';
+  return {
+    headline: reached ? 'Stopped: target reached' : 'Stopped before the target',
+    detail: `${where} (target ${result.targetHalfLives})${precision}. The results are the final fit of the readings kept.`,
+    earlyStop: null,
+    tone: 'wait',
+  };
+}
+
 /** "Target reached at t ≈ 612 ± 35 s (95 %), about 4 min 10 s from now.", or why it cannot be said yet. */
-export function finishWords(result: AnalysisResultView | null, now_s: number | null, runPerWall: number | null): string {
+export function finishWords(result: AnalysisResultView | null, now_s: number | null, runPerWall: number | null, running = true): string {
+  if (!running) return result ? 'The run has stopped: no finishing time to predict.' : '';
   const s = result?.stop;
   if (!s || s.predictedAt_s === null) return 'Finishing time: not predictable yet.';
   // ±1.96 standard errors: a 95 % interval under the usual normal approximation.

@@ -78,13 +78,23 @@ let redraw = (): void => {};
 const chart = createChartArea(store, actions, () => redraw());
 
 const linkText = h('span', { class: 'link', role: 'status' });
+// Large text for a projector or the back of the room: the page's rem sizes and the chart's
+// axis text together, kept for this browser.
+const largeText = h('button', { type: 'button', class: 'small-button text-size', 'aria-pressed': 'false' }, 'Large text');
+function showLargeText(on: boolean): void {
+  document.documentElement.classList.toggle('large-text', on);
+  largeText.setAttribute('aria-pressed', String(on));
+  chart.setTextScale(on ? 1.45 : 1);
+  try { localStorage.setItem('rateline-large-text', on ? '1' : '0'); } catch { /* no storage: the choice lasts this page */ }
+}
+largeText.addEventListener('click', () => showLargeText(largeText.getAttribute('aria-pressed') !== 'true'));
 const shortcutText = h('span', { class: 'shortcuts small' },
   `Keys: ${SHORTCUTS.start.toUpperCase()} start · ${SHORTCUTS.stop.toUpperCase()} stop · ${SHORTCUTS.mark.toUpperCase()} mark · ${SHORTCUTS.mixed.toUpperCase()} mixed (t = 0)`);
 document.body.replaceChildren(
   h('header', { class: 'topbar' },
     h('div', { class: 'brand' }, h('span', { class: 'brand-name' }, 'Rateline'), h('span', { class: 'brand-sub' }, 'absorbance kinetics')),
     controls.element,
-    h('div', { class: 'topbar-right' }, linkText, shortcutText)),
+    h('div', { class: 'topbar-right' }, linkText, shortcutText, largeText)),
   banner.element,
   messages.element,
   h('main', { class: 'layout' },
@@ -117,6 +127,8 @@ function draw(): void {
   linkText.textContent = s.link === 'open' ? 'Service: connected' : s.link === 'lost' ? 'Service: LOST, reload the page' : 'Service: connecting…';
   performance.measure('rateline:frame', 'rateline:frame-start');
 }
+
+try { if (localStorage.getItem('rateline-large-text') === '1') showLargeText(true); } catch { /* no storage */ }
 
 const scheduler = frameScheduler(draw, (cb) => requestAnimationFrame(cb));
 redraw = () => { sizeVersion++; scheduler.request(); };

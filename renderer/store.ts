@@ -120,7 +120,17 @@ export function applyEvent(store: Store, event: BridgeEvent, wall_ms: number): v
     switch (event.type) {
       case 'state': {
         const s = event.state;
-        if (s.runId !== d.runId) startRun(d, s.runId);
+        const was = d.bench?.phase;
+        // A new source connected: the last run's curve, k and advice leave the screen (on a replay
+        // not yet started they would give the answer away), and so do the errors of earlier
+        // connections. A connection that fails leaves the last run in view.
+        const connectedAnew = was !== undefined && was !== s.phase && s.phase === 'connected' && was !== 'running';
+        if (s.runId !== d.runId || connectedAnew) startRun(d, s.runId);
+        if (connectedAnew) {
+          d.messages = d.messages.filter((m) => m.level !== 'error');
+          d.lastRejected = null;
+          d.peak = { offer: null, problem: null, waiting: false, accepted_nm: d.peak.accepted_nm };
+        }
         d.bench = s;
         d.sourceStatus = s.sourceStatus;
         d.rejected = s.rejected;

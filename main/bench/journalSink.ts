@@ -23,6 +23,10 @@ function runMetadata(details: SampleDetails, wavelength_nm: number | null): RunM
     operator: details.operator ?? null,
     temperature_C: details.temperature_C ?? null,
     concentrations: (details.concentrations ?? []).map((c) => ({ name: c.name, value: c.value, unit: c.unit })),
+    path_cm: details.path_cm ?? null,
+    pH: details.pH ?? null,
+    buffer: details.buffer || null,
+    volumes: (details.volumes ?? []).map((v) => ({ name: v.name, value_mL: v.value_mL })),
     note: details.notes ?? null,
     wavelength_nm,
   };

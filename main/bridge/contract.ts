@@ -62,6 +62,8 @@ const finite = z.number(); // zod 4 numbers reject NaN and ±Infinity
 const nonNegInt = z.number().int().min(0);
 
 export const BAUD_RATES = [1200, 2400, 4800, 9600, 19200, 38400, 57600, 115200, 230400, 460800, 921600] as const;
+/** The line speed PROTOCOL.md gives for the instrument; the screen offers it first. */
+export const DEFAULT_BAUD = 115200;
 
 // ---------------------------------------------------------------- sources
 
@@ -106,6 +108,12 @@ export const SampleDetailsSchema = z.object({
   operator: shortText.optional(),
   temperature_C: z.number().min(-50).max(200).nullable().optional(),
   concentrations: z.array(ConcentrationSchema).max(LIMITS.maxConcentrations).optional(),
+  /** Optical path length of the cell, cm (1.00 for the usual cuvette). */
+  path_cm: z.number().gt(0).max(100).nullable().optional(),
+  pH: z.number().min(-2).max(16).nullable().optional(),
+  buffer: shortText.optional(),
+  /** Volumes mixed into the cell, mL, by what they are. */
+  volumes: z.array(z.object({ name: z.string().min(1).max(80), value_mL: z.number().gt(0).max(1e4) }).strict()).max(LIMITS.maxConcentrations).optional(),
   notes: z.string().max(LIMITS.maxNote).optional(),
 }).strict();
 export type SampleDetails = z.infer<typeof SampleDetailsSchema>;
@@ -328,9 +336,34 @@ export function parseRequest(input: unknown): { ok: true; request: BridgeRequest
   return { ok: false, error: `request refused: ${describeIssue(parsed.error)}` };
 }
 
+/** What a field of a request is, in the words the screen uses for it. */
+const FIELD_WORDS: Record<string, string> = {
+  'options.targetHalfLives': 'the target (half-lives)',
+  'options.precision': 'the precision of k (a fraction, 0.05 for ±5 %)',
+  'window.from_s': 'the start of the fit window (s)',
+  'window.to_s': 'the end of the fit window (s)',
+  wavelength_nm: 'the wavelength (nm)',
+  'details.temperature_C': 'the temperature (°C)',
+  'details.path_cm': 'the path length (cm)',
+  'details.pH': 'the pH',
+  'source.speed': 'the speed',
+  'source.baud': 'the baud rate',
+  'source.path': 'the serial port',
+  note: 'the note',
+};
+
+/** A request's first fault as one sentence: which field, what is wrong with it, what to do. */
 export function describeIssue(error: z.ZodError): string {
   const issue = error.issues[0];
-  if (!issue) return 'invalid input';
-  const where = issue.path.length ? issue.path.map(String).join('.') : 'message';
-  return `${where}: ${issue.message}`.slice(0, 300);
+  if (!issue) return 'the request could not be read; reload the page.';
+  const key = issue.path.map(String).join('.');
+  const generic = key.replace(/\.\d+(?=\.|$)/g, '');
+  const what = FIELD_WORDS[key] ?? FIELD_WORDS[generic] ?? (key ? key.split('.').pop()!.replace(/_/g, ' ') : 'the request');
+  const i = issue as { code: string; minimum?: number | bigint; maximum?: number | bigint; inclusive?: boolean; expected?: string };
+  let fault: string;
+  if (i.code === 'too_small' && i.minimum !== undefined) fault = `must be ${i.inclusive === false ? 'more than' : 'at least'} ${String(i.minimum)}`;
+  else if (i.code === 'too_big' && i.maximum !== undefined) fault = `must be ${i.inclusive === false ? 'less than' : 'at most'} ${String(i.maximum)}`;
+  else if (i.code === 'invalid_type') fault = `must be ${i.expected === 'number' ? 'a number' : i.expected === 'string' ? 'text' : `a ${i.expected ?? 'value'}`}`;
+  else fault = `is not accepted (${issue.message.toLowerCase()})`;
+  return `${what} ${fault}; correct it and try again.`.slice(0, 300);
 }

@@ -23,6 +23,7 @@ export interface ChartArea {
   /** Draw a frame; returns what was drawn. */
   draw(state: ScreenState): ChartFrame;
   resize(): void;
+  setTextScale(scale: number): void;
 }
 
 function legendSwatch(color: string, dash: number[]): HTMLElement {
@@ -91,6 +92,7 @@ export function createChartArea(store: Store, actions: BenchActions, onResize: (
   return {
     element,
     resize,
+    setTextScale: (scale) => chart.setTextScale(scale),
     draw(state) {
       for (const [v, b] of tabButtons) b.setAttribute('aria-selected', String(v === state.view));
       setText(caption, VIEW_CAPTION[state.view]);

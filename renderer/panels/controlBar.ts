@@ -33,7 +33,27 @@ export function createControlBar(store: Store, actions: BenchActions, target: Ev
   const note = h('input', { type: 'text', class: 'mark-note', placeholder: 'note for the next mark', maxlength: 200, 'aria-label': 'Note for the next mark' });
   const phaseText = h('span', { class: 'phase', role: 'status' });
 
-  const doStart = () => void actions.send({ type: 'start' });
+  // On a screen not yet connected, Start would connect and record at once from whatever source
+  // happens to be chosen: it asks first, naming the source.
+  const confirmText = h('p', { class: 'confirm-text', id: 'start-confirm-text' });
+  const confirmGo = h('button', { type: 'button', class: 'small-button primary' }, 'Connect and record');
+  const confirmCancel = h('button', { type: 'button', class: 'small-button' }, 'Cancel');
+  const confirmBox = h('div', { class: 'start-confirm', role: 'dialog', 'aria-modal': 'false', 'aria-labelledby': 'start-confirm-text', hidden: true },
+    confirmText, h('div', { class: 'button-row' }, confirmGo, confirmCancel));
+  const closeConfirm = () => { confirmBox.hidden = true; start.focus(); };
+  confirmGo.addEventListener('click', () => { confirmBox.hidden = true; void actions.send({ type: 'start' }); });
+  confirmCancel.addEventListener('click', closeConfirm);
+  confirmBox.addEventListener('keydown', (e) => { if (e.key === 'Escape') { e.stopPropagation(); closeConfirm(); } });
+  const doStart = () => {
+    const b = store.get().bench;
+    if (b && b.phase === 'idle') {
+      confirmText.textContent = `Start a run from ${b.sourceLabel}? Rateline connects to it and starts recording at once.`;
+      confirmBox.hidden = false;
+      confirmGo.focus();
+      return;
+    }
+    void actions.send({ type: 'start' });
+  };
   const doStop = () => void actions.send({ type: 'stop' });
   const doMixed = () => void actions.send({ type: 'mixed' });
   const doMark = async () => {
@@ -46,7 +66,12 @@ export function createControlBar(store: Store, actions: BenchActions, target: Ev
   stop.addEventListener('click', doStop);
   mark.addEventListener('click', () => void doMark());
   mixed.addEventListener('click', doMixed);
-  note.addEventListener('keydown', (e) => { if (e.key === 'Enter') void doMark(); });
+  note.addEventListener('keydown', (e) => {
+    if (e.key !== 'Enter') return;
+    // The mark is made; the keys (S, X, M, Z) work again at once.
+    note.blur();
+    void doMark();
+  });
 
   target.addEventListener('keydown', (ev) => {
     const e = ev as KeyboardEvent;
@@ -60,7 +85,7 @@ export function createControlBar(store: Store, actions: BenchActions, target: Ev
     b.click();
   });
 
-  const element = h('div', { class: 'controls' }, start, stop, mixed, h('span', { class: 'mark-group' }, note, mark), phaseText);
+  const element = h('div', { class: 'controls' }, start, stop, mixed, h('span', { class: 'mark-group' }, note, mark), phaseText, confirmBox);
 
   return {
     element,

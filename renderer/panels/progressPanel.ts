@@ -67,7 +67,7 @@ export function createProgressPanel(actions: BenchActions): ProgressPanel {
         : 'Fraction converted: not known yet.');
       const now = state.readings.lastTime_s();
       const zero = state.bench?.timeZero_s ?? 0;
-      setText(finish, finishWords(a, now === null ? null : now - zero, state.readings.runSecondsPerWallSecond()));
+      setText(finish, finishWords(a, now === null ? null : now - zero, state.readings.runSecondsPerWallSecond(), running));
       const w = adviceWords(a, running);
       setText(headline, w.headline);
       setText(detail, w.detail);

@@ -26,14 +26,20 @@ export interface ChartInput {
 export interface RunChart {
   draw(input: ChartInput): ChartFrame;
   resize(width: number, mainHeight: number, residualHeight: number): void;
+  /** Axis text at `scale` × its usual 14 px (the large-text mode for a projector). */
+  setTextScale(scale: number): void;
 }
 
-const AXIS_FONT = '14px system-ui, sans-serif';
-const LABEL_FONT = 'bold 14px system-ui, sans-serif';
+const AXIS_PX = 14;
+const LABEL_SIZE = 22;
+const AXIS_FONT = `${AXIS_PX}px system-ui, sans-serif`;
+const LABEL_FONT = `bold ${AXIS_PX}px system-ui, sans-serif`;
+/** The text scale every chart's axes follow (1, or larger for a projector). */
+let textScale = 1;
 
 function axis(label: string, size = 64): uPlot.Axis {
   return {
-    label, stroke: PALETTE.ink, font: AXIS_FONT, labelFont: LABEL_FONT, size, labelSize: 22,
+    label, stroke: PALETTE.ink, font: AXIS_FONT, labelFont: LABEL_FONT, size: () => Math.round(size * textScale), labelSize: LABEL_SIZE,
     grid: { stroke: PALETTE.grid, width: 1 }, ticks: { stroke: PALETTE.grid, width: 1 },
     // Tick labels with a true minus sign and no float noise (0.30000000000000004).
     values: (_u, splits) => splits.map((v) => String(Number(v.toPrecision(6))).replace('-', '−')),
@@ -172,6 +178,21 @@ export function createRunChart(
       main.setSize({ width, height: mainHeight });
       residual.setSize({ width, height: residualHeight });
     },
+    setTextScale(scale) {
+      if (scale === textScale) return;
+      textScale = scale;
+      // uPlot keeps each font as [css text, device px, css px] and rebuilds the first two from the
+      // third when the pixel ratio changes; the same event makes it re-measure with the new sizes.
+      type Font = [string, number, number];
+      for (const u of [main, residual]) {
+        for (const a of u.axes as unknown as { font: Font; labelFont: Font; labelSize: number }[]) {
+          a.font[2] = AXIS_PX * scale;
+          a.labelFont[2] = AXIS_PX * scale;
+          a.labelSize = Math.round(LABEL_SIZE * scale);
+        }
+      }
+      window.dispatchEvent(new CustomEvent('dppxchange'));
+    },
   };
 }
 
@@ -236,7 +257,7 @@ function drawOutliers(u: uPlot, input: ChartInput, frame: ChartFrame, px: number
 
 function drawMarks(u: uPlot, input: ChartInput, px: number): void {
   const ctx = u.ctx;
-  ctx.font = `${13 * px}px system-ui, sans-serif`;
+  ctx.font = `${Math.round(13 * textScale) * px}px system-ui, sans-serif`;
   // uPlot leaves the axis text settings on the context; the labels start at the line.
   ctx.textAlign = 'left';
   ctx.textBaseline = 'alphabetic';

@@ -4,7 +4,7 @@
  * the blank, and how the line is doing: connection status, reading rate and the
  * lines the parser turned away, counted by reason.
  */
-import { BAUD_RATES, type RejectReason, type SourceChoice } from '../../main/bridge/contract';
+import { BAUD_RATES, DEFAULT_BAUD, type RejectReason, type SourceChoice } from '../../main/bridge/contract';
 import type { BenchActions } from '../benchActions';
 import { h, setHidden, setText } from '../elements';
 import { addMessage, type ScreenState, type Store } from '../store';
@@ -35,7 +35,7 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
   const portList = h('datalist', { id: 'rateline-ports' });
   const port = h('input', { type: 'text', list: 'rateline-ports', placeholder: '/dev/ttyUSB0', maxlength: 4096, 'aria-label': 'Serial port', class: 'port-input' });
   const portsFound = h('span', { class: 'small' });
-  const baud = h('select', { 'aria-label': 'Baud rate' }, ...BAUD_RATES.map((b) => h('option', { value: b, selected: b === 9600 }, String(b))));
+  const baud = h('select', { 'aria-label': 'Baud rate' }, ...BAUD_RATES.map((b) => h('option', { value: b, selected: b === DEFAULT_BAUD }, String(b))));
   const refreshPorts = h('button', { type: 'button', class: 'small-button' }, 'Refresh');
   const serialRow = h('div', { class: 'field-group' },
     h('label', { class: 'field' }, 'Port ', port, portList, ' ', refreshPorts), portsFound, h('label', { class: 'field' }, 'Baud ', baud));
@@ -154,6 +154,8 @@ export function createSourcePanel(store: Store, actions: BenchActions): SourcePa
 export function statusWords(state: ScreenState): string {
   const s = state.sourceStatus;
   if (!s) return 'Connection: none yet';
+  // The source's last word is history once the service has let it go.
+  if (state.bench?.phase === 'idle' && s.kind !== 'error') return 'Not connected';
   switch (s.kind) {
     case 'connecting': return `Connecting: ${s.detail}`;
     case 'connected': return `Connected: ${s.identity ? `${s.identity.maker} ${s.identity.model} (${s.identity.serial})` : s.detail}`;

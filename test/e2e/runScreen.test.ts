@@ -54,6 +54,11 @@ describe('run screen against the real bench service', () => {
     // Start by its shortcut, with the focus on the page, not in a field.
     await page.locator('body').click({ position: { x: 640, y: 790 } });
     await page.keyboard.press('s');
+    // A fresh screen asks before it connects and records, naming the source it would use.
+    const confirm = page.getByRole('dialog');
+    await expect.poll(() => confirm.textContent(), { timeout: 10_000 }).toMatch(/Start a run from simulated instrument \(demo data\)/);
+    await expect(countIn(await page.getByTestId('drawn').textContent())).toBe(0);
+    await page.getByRole('button', { name: 'Connect and record' }).click();
     await page.getByText(/^Recording: \d+ readings/).waitFor({ timeout: 20_000 });
     await expect.poll(async () => countIn(await page.getByTestId('drawn').textContent()), { timeout: 20_000 }).toBeGreaterThan(30);
 
@@ -167,12 +172,19 @@ describe('run screen against the real bench service', () => {
     await page.getByRole('combobox', { name: 'Recorded run' }).selectOption(name);
     await page.getByLabel('Replay speed').selectOption('max');
     await page.getByTestId('use-source').click();
+    await page.getByText('Instrument connected: ready to start').waitFor({ timeout: 20_000 });
+    // Connected but not started: nothing of the last run is on the screen (it would give the answer away).
+    expect(countIn(await page.getByTestId('drawn').textContent())).toBe(0);
+    await expect(page.getByTestId('k').textContent()).resolves.not.toMatch(/±/);
     await page.getByRole('button', { name: /^Start/ }).click();
     // Played as fast as possible, the whole record arrives and the run ends by itself or by Stop.
     await expect.poll(async () => countIn(await page.getByTestId('drawn').textContent()), { timeout: 30_000 }).toBe(recorded);
     await expect.poll(async () => page.getByTestId('k').textContent(), { timeout: 30_000 }).toMatch(/±/);
-    if (await page.getByRole('button', { name: /^Stop/ }).isEnabled()) await page.getByRole('button', { name: /^Stop/ }).click();
+    // The replay may end by itself at any moment: Stop is pressed only while it is still enabled
+    // (a click on a button that has just been disabled would wait for it in vain).
+    await page.getByRole('button', { name: /^Stop/ }).click({ timeout: 1_000 }).catch(() => {});
     await page.getByText(/^Stopped: \d+ readings recorded/).waitFor({ timeout: 20_000 });
+    await expect(page.getByTestId('advice').textContent()).resolves.toMatch(/^Stopped/);
     expect(session.problems).toEqual([]);
   }, 120_000);
 
@@ -188,6 +200,32 @@ describe('run screen against the real bench service', () => {
     await page.getByRole('tab', { name: 'A against t' }).click();
     await expect.poll(() => caption.textContent()).toMatch(/^Absorbance against time/);
     expect(session.problems).toEqual([]);
+  });
+
+  it('keeps k whole at 1000 px wide and grows every text, the chart axes too, in the large-text mode', async () => {
+    const { page } = session.browser;
+    await expect.poll(async () => page.getByTestId('k').textContent(), { timeout: 20_000 }).toMatch(/±/);
+    const whole = async () => page.evaluate(() => {
+      const k = document.querySelector('[data-testid="k"]')!;
+      const panel = k.closest('.panel')!;
+      const a = k.getBoundingClientRect(), b = panel.getBoundingClientRect();
+      return a.left >= b.left && a.right <= b.right + 0.5;
+    });
+    for (const width of [1000, 1024, 1280]) {
+      await page.setViewportSize({ width, height: 768 });
+      await page.waitForTimeout(300);
+      expect(await whole(), `k inside its panel at ${width} px`).toBe(true);
+    }
+    const rootPx = () => page.evaluate(() => parseFloat(getComputedStyle(document.documentElement).fontSize));
+    const normal = await rootPx();
+    await page.getByRole('button', { name: 'Large text' }).click();
+    expect(await rootPx()).toBeGreaterThan(normal * 1.3);
+    await page.waitForTimeout(500);
+    expect(await whole()).toBe(true);
+    await page.screenshot({ path: join(ARTIFACTS, 'run-screen-large-text.png') });
+    await page.getByRole('button', { name: 'Large text' }).click();
+    expect(await rootPx()).toBe(normal);
+    await page.setViewportSize({ width: 1280, height: 800 });
   });
 
   // Last: it ends the service.
