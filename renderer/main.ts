@@ -16,6 +16,7 @@ import { createResultsPanel } from './panels/resultsPanel';
 import { createSamplePanel } from './panels/samplePanel';
 import { createDemoBanner, createMarksPanel, createMessages, createSafetyNote } from './panels/sidePanels';
 import { createSourcePanel } from './panels/sourcePanel';
+import { createLibraryPanel } from './panels/libraryPanel';
 import { applyEvent, createStore, type ScreenState } from './store';
 
 declare global {
@@ -74,10 +75,14 @@ const sample = createSamplePanel(store, actions);
 const progress = createProgressPanel(actions);
 const results = createResultsPanel();
 const marks = createMarksPanel(store, actions);
+const safety = createSafetyNote();
 let redraw = (): void => {};
 const chart = createChartArea(store, actions, () => redraw());
 
 const linkText = h('span', { class: 'link', role: 'status' });
+const library = createLibraryPanel(store, actions);
+const libraryButton = h('button', { type: 'button', class: 'small-button text-size' }, 'Run library');
+libraryButton.addEventListener('click', () => library.open());
 // Large text for a projector or the back of the room: the page's rem sizes and the chart's
 // axis text together, kept for this browser.
 const largeText = h('button', { type: 'button', class: 'small-button text-size', 'aria-pressed': 'false' }, 'Large text');
@@ -94,13 +99,14 @@ document.body.replaceChildren(
   h('header', { class: 'topbar' },
     h('div', { class: 'brand' }, h('span', { class: 'brand-name' }, 'Rateline'), h('span', { class: 'brand-sub' }, 'absorbance kinetics')),
     controls.element,
-    h('div', { class: 'topbar-right' }, linkText, shortcutText, largeText)),
+    h('div', { class: 'topbar-right' }, linkText, shortcutText, h('div', { class: 'button-row' }, libraryButton, largeText))),
   banner.element,
   messages.element,
   h('main', { class: 'layout' },
-    h('aside', { class: 'column setup', 'aria-label': 'Set-up' }, source.element, createSafetyNote(), sample.element),
+    h('aside', { class: 'column setup', 'aria-label': 'Set-up' }, source.element, safety.element, sample.element),
     h('div', { class: 'column centre' }, chart.element),
     h('aside', { class: 'column readout', 'aria-label': 'Readout' }, progress.element, results.element, marks.element)),
+  library.element,
 );
 
 // The chart redraws only when something it shows has moved; the text panels check their own parts.
@@ -117,6 +123,7 @@ function draw(): void {
   progress.render(s);
   results.render(s);
   marks.render(s);
+  safety.render(s);
   const key = { count: s.pointCount, analysis: s.analysis, view: s.view, window: s.bench?.fitWindow, zero: s.bench?.timeZero_s, marks: s.marks, sized: sizeVersion };
   if (!drawn || Object.keys(key).some((k) => key[k as keyof typeof key] !== drawn![k as keyof typeof key])) {
     performance.mark('rateline:chart-start');

@@ -5,7 +5,8 @@
  */
 import { join } from 'node:path';
 import type { SpectrumFrame } from '../../acquisition/sources/sourceTypes';
-import type { BridgeRequest } from '../bridge/contract';
+import { LIMITS, type BridgeRequest } from '../bridge/contract';
+import { indexRunsFolder } from '../../acquisition/record/runLibrary';
 import type { BenchSession } from './benchSession';
 import { Refusal } from './refusal';
 import { exportCsv, type ExportInput } from '../../acquisition/exports/runCsvExport';
@@ -17,6 +18,18 @@ export async function dispatch(s: BenchSession, req: BridgeRequest): Promise<unk
     case 'getState': return s.snapshot();
     case 'listPorts': return { ports: await s.deps.listPorts() };
     case 'listRecords': return { records: await listRecordFiles(s.deps.dataDir) };
+    case 'listLibrary': {
+      // Long text fields are cut to what the bridge carries; the record keeps them whole.
+      const { entries, fromCache } = await indexRunsFolder(s.deps.dataDir, LIMITS.maxRecords);
+      const cut = (x: string | null, n: number) => (x === null ? null : x.slice(0, n));
+      return {
+        fromCache,
+        entries: entries.map((e) => ({
+          ...e, sample: cut(e.sample, LIMITS.maxShortText), operator: cut(e.operator, LIMITS.maxShortText),
+          conditions: e.conditions.slice(0, LIMITS.maxNote), notice: cut(e.notice, LIMITS.maxNote), problem: cut(e.problem, LIMITS.maxNote),
+        })),
+      };
+    }
     case 'chooseSource':
       s.notWhileRunning('choose another source');
       await closeSource(s);

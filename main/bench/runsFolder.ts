@@ -7,6 +7,7 @@ import { mkdir, readdir, stat } from 'node:fs/promises';
 import { basename, join, resolve, sep } from 'node:path';
 import { LIMITS } from '../bridge/contract';
 import { Refusal } from './refusal';
+import { isRunRecordName } from '../../acquisition/record/runLibrary';
 
 export interface RecordFileInfo {
   name: string;
@@ -18,7 +19,7 @@ export async function ensureRunsFolder(dataDir: string): Promise<void> {
   await mkdir(dataDir, { recursive: true });
 }
 
-/** Records (*.jsonl) in the folder, newest first. */
+/** Run records (*.jsonl, sidecars left out) in the folder, newest first. */
 export async function listRecordFiles(dataDir: string): Promise<RecordFileInfo[]> {
   let names: string[];
   try {
@@ -27,7 +28,7 @@ export async function listRecordFiles(dataDir: string): Promise<RecordFileInfo[]
     return [];
   }
   const out: RecordFileInfo[] = [];
-  for (const name of names.filter((n) => n.endsWith('.jsonl'))) {
+  for (const name of names.filter(isRunRecordName)) {
     try {
       const s = await stat(join(dataDir, name));
       if (s.isFile()) out.push({ name, size_bytes: s.size, modified: s.mtime.toISOString() });

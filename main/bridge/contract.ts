@@ -140,6 +140,8 @@ export const RequestSchema = z.discriminatedUnion('type', [
   z.object({ type: z.literal('getState') }).strict(),
   z.object({ type: z.literal('listPorts') }).strict(),
   z.object({ type: z.literal('listRecords') }).strict(),
+  /** The run library: every record in the runs folder with its sample, conditions, k and verdict. */
+  z.object({ type: z.literal('listLibrary') }).strict(),
   z.object({ type: z.literal('chooseSource'), source: SourceChoiceSchema }).strict(),
   z.object({ type: z.literal('connect') }).strict(),
   z.object({ type: z.literal('disconnect') }).strict(),
@@ -247,6 +249,24 @@ export const RecordInfoSchema = z.object({
   modified: z.string().max(40),
 });
 
+export const LibraryEntrySchema = RecordInfoSchema.extend({
+  sha256: z.string().max(64),
+  started: z.string().max(40).nullable(),
+  sample: shortText.nullable(),
+  operator: shortText.nullable(),
+  temperature_C: z.number().nullable(),
+  conditions: z.string().max(LIMITS.maxNote),
+  demo: z.boolean(),
+  readings: nonNegInt,
+  k: z.number().nullable(),
+  kCI95: z.tuple([z.number(), z.number()]).nullable(),
+  kUnit: z.string().max(40).nullable(),
+  verdict: z.string().max(40).nullable(),
+  notice: z.string().max(LIMITS.maxNote).nullable(),
+  problem: z.string().max(LIMITS.maxNote).nullable(),
+});
+export type LibraryEntryView = z.infer<typeof LibraryEntrySchema>;
+
 /** A spectrum of the sample and its absorbance maximum, offered as the measuring wavelength. */
 export const PeakOfferSchema = z.object({
   /** Device time of the frame (s). */
@@ -275,6 +295,7 @@ export const ReplyValueSchemas = {
   getState: BenchStateSchema,
   listPorts: z.object({ ports: z.array(PortInfoSchema).max(LIMITS.maxPorts) }),
   listRecords: z.object({ records: z.array(RecordInfoSchema).max(LIMITS.maxRecords) }),
+  listLibrary: z.object({ entries: z.array(LibraryEntrySchema).max(LIMITS.maxRecords), fromCache: nonNegInt }),
   chooseSource: BenchStateSchema,
   connect: BenchStateSchema,
   disconnect: BenchStateSchema,

@@ -7,12 +7,31 @@ import type { BenchActions } from '../benchActions';
 import { h, setHidden, setText } from '../elements';
 import { addMessage, type ScreenState, type Store } from '../store';
 
-export function createSafetyNote(): HTMLElement {
-  return h('section', { class: 'panel safety', 'aria-label': 'Safety' },
+/**
+ * The caution beside the run belongs to its chemistry. For the demo (brilliant blue FCF and
+ * sodium hypochlorite) it is the usual practice for dilute bleach, from memory; for any
+ * other run the screen has no note of its own to give and says where the cautions are.
+ */
+export function createSafetyNote(): Renderable {
+  const demo = h('div', {},
     h('h2', {}, 'Safety: the demo chemistry'),
-    h('p', {}, 'Sodium hypochlorite (bleach) irritates or burns skin and eyes: wear eye protection and gloves.'),
-    h('p', {}, 'Never mix bleach with acids (chlorine gas) or with ammonia (chloramines). Food dyes stain.'),
-    h('p', { class: 'small' }, 'The safety data sheets and your lab’s own rules come first.'));
+    h('p', {}, 'Sodium hypochlorite (bleach) irritates or burns skin and eyes: wear eye protection and gloves, and work with ventilation.'),
+    h('p', {}, 'Household bleach is typically 3–8 % sodium hypochlorite (read the label; it weakens in storage); dilute it before use.'),
+    h('p', {}, 'Never mix bleach with acids (chlorine gas) or with ammonia (chloramines); keep its waste out of acidic waste (a thiosulfate quench is common).'),
+    h('p', {}, 'On skin, rinse with plenty of water; in the eyes, rinse for at least 15 minutes and get medical help. Food dyes stain.'),
+    h('p', { class: 'small' }, 'Common practice; the safety data sheets and your lab’s own rules come first.'));
+  const other = h('div', {},
+    h('h2', {}, 'Safety'),
+    h('p', {}, 'No safety note is given for this run’s reagents: read the safety data sheet of each reagent and follow your lab’s rules before you start.'));
+  const element = h('section', { class: 'panel safety', 'aria-label': 'Safety', 'data-testid': 'safety' }, demo, other);
+  return {
+    element,
+    render(state) {
+      const isDemo = state.bench?.demo ?? true;
+      setHidden(demo, !isDemo);
+      setHidden(other, isDemo);
+    },
+  };
 }
 
 export interface Renderable {
