@@ -9,14 +9,28 @@
 import { fitLeastSquares } from '../fit/leastSquares';
 import type { ParameterSpec } from '../fit/fitTypes';
 import type { ModelName } from '../analysisTypes';
-import { AINF, A0, K, ORDER, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
+import { AINF as AINF_INDEX, A0 as A0_INDEX, K as K_INDEX, ORDER as ORDER_INDEX, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
 import { aInfAtBoundWarning, binMean, failedModelFit, finishFit } from './rateLawStatistics';
+// The parameter indices read once into module constants: an imported binding is a property
+// read through a getter in some module loaders (the test runner's, tsx's), and these are
+// read for every reading at every iteration.
+const AINF = AINF_INDEX, A0 = A0_INDEX, K = K_INDEX, ORDER = ORDER_INDEX;
 
 export interface CoreBounds {
   /** Extra parameter bounds beyond k ≥ 0, C ≥ 0, A∞ ≥ aInfMin (for the order n). */
   orderMin?: number;
   orderMax?: number;
 }
+
+/**
+ * Fits run by the core, their iterations and how many stopped at the iteration cap, per
+ * model (for tests and the benchmark: a refit that hits the cap is wasted work and a
+ * sign of a stop test that does not recognise a minimum).
+ */
+export interface CoreFitTally { fits: number; iterations: number; capHits: number }
+export const CORE_MAX_ITERATIONS = 60;
+export const coreFitTally: Record<string, CoreFitTally> = {};
+export function resetCoreFitTally(): void { for (const k of Object.keys(coreFitTally)) delete coreFitTally[k]; }
 
 const indexCache: { x: Float64Array } = { x: new Float64Array(0) };
 
@@ -53,13 +67,14 @@ export function fitWithCore(
     if (np > ORDER) p[ORDER] = q[3];
     return p;
   };
+  const predict = binMean; // a local, not an imported binding, on the per-reading path
   const result = fitLeastSquares({
     parameters: specs,
     x: indices(s.count),
     y: s.y,
     weights: s.w,
     count: s.count,
-    model: (x, q) => { const i = x | 0; return binMean(law, s.tau_s[i], s.v[i], toP(q)); },
+    model: (x, q) => { const i = x | 0; return predict(law, s.tau_s[i], s.v[i], toP(q)); },
     jacobian: (x, q, out) => {
       law.gradient(s.tau_s[x | 0], toP(q), g);
       out[0] = g[K];
@@ -67,8 +82,12 @@ export function fitWithCore(
       out[2] = g[A0] + g[AINF];
       if (np > ORDER) out[3] = g[ORDER];
     },
-    options: { maxIterations: 60, tolerance: 1e-10 },
+    options: { maxIterations: CORE_MAX_ITERATIONS, tolerance: 1e-10 },
   });
+  const tally = (coreFitTally[model] ??= { fits: 0, iterations: 0, capHits: 0 });
+  tally.fits++;
+  tally.iterations += result.iterations;
+  if (!result.converged && result.iterations >= CORE_MAX_ITERATIONS) tally.capHits++;
   const q = Float64Array.from(result.parameters.map((fp) => fp.value));
   const final = Float64Array.from(toP(q));
   const byName = result.byName;
