@@ -20,6 +20,8 @@ export interface CoreBounds {
   /** Extra parameter bounds beyond k ≥ 0, C ≥ 0, A∞ ≥ aInfMin (for the order n). */
   orderMin?: number;
   orderMax?: number;
+  /** The order a law of three parameters carries in its k (2 for second order); the n-th order law's is its fitted n. */
+  rateOrder?: number;
 }
 
 /**
@@ -53,17 +55,26 @@ export function fitWithCore(
   const aInf0 = aInfFixed ? (opts.fixedAInf as number) : Math.min(aInfMax, Math.max(opts.aInfMin, start[AINF]));
   const c0 = Math.max(dir * (start[A0] - aInf0), 1e-12);
   const finiteOr = (v: number): number | undefined => (Number.isFinite(v) ? v : undefined);
+  // The core fits the rate scale u = k·c^(n−1) (the initial fractional rate, s⁻¹) in place of
+  // k. For a fixed u the law is linear in c and A∞, so the long k–c–A∞ valley of a run that
+  // has not shown its end becomes a straight one, which Gauss–Newton steps follow at once;
+  // in k itself the valley is curved (k·c is what the readings fix) and the iteration creeps
+  // along it by shortened steps, often to its cap. The minimum is the same point.
+  const orderOf = (q: Float64Array): number => (np > ORDER ? q[3] : bounds.rateOrder ?? 1);
+  const n0 = np > ORDER ? start[ORDER] : bounds.rateOrder ?? 1;
   const specs: ParameterSpec[] = [
-    { name: 'k', value: Math.max(start[K], 1e-30), min: 0 },
+    { name: 'k', value: Math.max(start[K] * Math.pow(c0, n0 - 1), 1e-30), min: 0 },
     { name: 'c', value: c0, min: 0 },
     { name: 'aInf', value: aInf0, fixed: aInfFixed, min: finiteOr(opts.aInfMin), max: finiteOr(aInfMax) },
   ];
   if (np > ORDER) specs.push({ name: 'n', value: start[ORDER], min: bounds.orderMin, max: bounds.orderMax });
-  // Core parameters q = (k, c, A∞[, n]) → rate-law parameters p = (k, A0 = A∞ ± c, A∞[, n]).
+  // Core parameters q = (u, c, A∞[, n]) → rate-law parameters p = (k = u·c^(1−n), A0 = A∞ ± c, A∞[, n]).
   const p = new Float64Array(np);
   const g = new Float64Array(np);
   const toP = (q: Float64Array): Float64Array => {
-    p[K] = q[0]; p[A0] = q[2] + dir * q[1]; p[AINF] = q[2];
+    const c = q[1];
+    p[K] = c > 0 ? q[0] * Math.pow(c, 1 - orderOf(q)) : 0;
+    p[A0] = q[2] + dir * c; p[AINF] = q[2];
     if (np > ORDER) p[ORDER] = q[3];
     return p;
   };
@@ -76,11 +87,14 @@ export function fitWithCore(
     count: s.count,
     model: (x, q) => { const i = x | 0; return predict(law, s.tau_s[i], s.v[i], toP(q)); },
     jacobian: (x, q, out) => {
-      law.gradient(s.tau_s[x | 0], toP(q), g);
-      out[0] = g[K];
-      out[1] = dir * g[A0];
+      const pp = toP(q);
+      law.gradient(s.tau_s[x | 0], pp, g);
+      const c = q[1], k = pp[K], n = orderOf(q);
+      // Chain rule through k = u·c^(1−n): ∂k/∂u = c^(1−n), ∂k/∂c = (1−n)k/c, ∂k/∂n = −k ln c.
+      out[0] = c > 0 ? g[K] * Math.pow(c, 1 - n) : 0;
+      out[1] = dir * g[A0] + (c > 0 ? g[K] * (1 - n) * k / c : 0);
       out[2] = g[A0] + g[AINF];
-      if (np > ORDER) out[3] = g[ORDER];
+      if (np > ORDER) out[3] = g[ORDER] - (c > 0 ? g[K] * k * Math.log(c) : 0);
     },
     options: { maxIterations: CORE_MAX_ITERATIONS, tolerance: 1e-10 },
   });

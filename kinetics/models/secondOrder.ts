@@ -67,5 +67,5 @@ export function secondOrderStart(s: FitSeries, opts: ModelOptions): Float64Array
 
 export function fitSecondOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   const start = opts.previous && opts.previous.every(Number.isFinite) ? opts.previous : secondOrderStart(s, opts);
-  return fitWithCore('second', secondOrderLaw, s, start, opts);
+  return fitWithCore('second', secondOrderLaw, s, start, opts, { rateOrder: 2 });
 }
