@@ -211,3 +211,41 @@ export function brentMinimum(f: (x: number) => number, a: number, b: number, tol
   }
   return { x, fx, iterations: it };
 }
+
+/**
+ * The profile-likelihood interval of k with the bounds on A∞ kept: every k whose profile
+ * χ² (A∞ and C at their best within the bounds) lies within `delta` of the minimum at
+ * `k`. Where A∞ rests on a bound this is the honest interval: towards one side A∞ can
+ * leave the bound and the interval is as wide as the readings allow, towards the other it
+ * cannot, so it is asymmetric; a symmetric one from the covariance covers too little, and
+ * the hull with the fit without the bound (which lets A∞ go where it physically cannot)
+ * covers too much. Each end is found by bisection on ln k to 1e-6; null when an end lies
+ * beyond 1000 reactions per observed span or below 1/1000 (the readings do not bound k).
+ */
+export function firstOrderProfileInterval(s: FitSeries, opts: ModelOptions, k: number, delta: number): [number, number] | null {
+  if (!(k > 0) || !(delta > 0) || s.count < 4) return null;
+  let span = 0, sw = 0, swy = 0;
+  for (let i = 0; i < s.count; i++) { span = Math.max(span, s.tau_s[i]); sw += s.w[i]; swy += s.w[i] * s.y[i]; }
+  const yMean = sw > 0 ? swy / sw : 0;
+  const lnMin = Math.log(1e-3 / Math.max(span, 1e-9)), lnMax = Math.log(1e3 / Math.max(span, 1e-9));
+  const ln0 = Math.log(k);
+  const level = solveLinear(s, k, opts, yMean).chi + delta;
+  const above = (lnk: number): boolean => solveLinear(s, Math.exp(lnk), opts, yMean).chi > level;
+  const end = (dir: 1 | -1): number | null => {
+    let inside = ln0, h = 0.01;
+    let out = ln0 + dir * h;
+    while (!above(out)) {
+      inside = out;
+      h *= 2;
+      out = ln0 + dir * h;
+      if (out < lnMin || out > lnMax) return null;
+    }
+    for (let i = 0; i < 60 && Math.abs(out - inside) > 1e-6; i++) {
+      const mid = 0.5 * (inside + out);
+      if (above(mid)) out = mid; else inside = mid;
+    }
+    return Math.exp(0.5 * (inside + out));
+  };
+  const lo = end(-1), hi = end(1);
+  return lo !== null && hi !== null ? [lo, hi] : null;
+}
