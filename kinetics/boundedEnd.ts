@@ -11,7 +11,7 @@
 import type { ModelName } from './analysisTypes';
 import type { FitSeries, FittedModel, ModelFit, ModelOptions } from './models/modelTypes';
 import { K } from './models/modelTypes';
-import { firstOrderProfileInterval, fitFirstOrder } from './models/firstOrder';
+import { fitFirstOrder } from './models/firstOrder';
 import { fitSecondOrder } from './models/secondOrder';
 import { fitNthOrder } from './models/nthOrder';
 import { t95 } from './modelSummary';
@@ -114,14 +114,6 @@ export function widenForBound(fit: ModelFit, s: FitSeries, base: ModelOptions, p
   const unboundedParams = Float64Array.from(free.params);
   if (seFree === null) return { kStdErr: null, kCI95: null, kUnbounded: free.params[K], unboundedParams };
   const dk = free.params[K] - k;
-  if (fit.model === 'first') {
-    // First order: the profile interval with the bounds kept (firstOrder.ts), at the level
-    // that gives the t interval for a parabolic profile, Δχ² = t²·χ²/dof (the covariance
-    // is scaled by the reduced χ² in the same way).
-    const ci = firstOrderProfileInterval(s, base, k, tq * tq * fit.chiSquare / fit.dof);
-    if (ci === null) return { kStdErr: null, kCI95: null, kUnbounded: free.params[K], unboundedParams };
-    return { kStdErr: (ci[1] - ci[0]) / (2 * tq), kCI95: ci, kUnbounded: free.params[K], unboundedParams };
-  }
   const tqFree = t95(free.dof);
   const lo = Math.min(k - tq * se, free.params[K] - tqFree * seFree);
   const hi = Math.max(k + tq * se, free.params[K] + tqFree * seFree);
