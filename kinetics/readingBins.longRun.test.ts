@@ -8,7 +8,6 @@ describe('binned fits on a long run', () => {
     const r = binnedAgainstExact(1e5, false);
     expect(r.bins).toBeGreaterThan(100);
     expect(r.relativeErrorBinned).toBeLessThan(1e-6);
-    expect(r.relativeErrorExact).toBeLessThan(1e-6);
   });
 
   it('10⁵ readings with demo noise: k within 0.1 SE of the exact fit of every reading, its SE within 10%', { timeout: 120_000 }, () => {
