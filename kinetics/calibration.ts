@@ -91,6 +91,8 @@ export interface Calibration {
   sigmaT: number;
   /** Standards whose externally studentised residual lies beyond the Bonferroni limit. */
   outlyingStandards: StudentisedResidual[];
+  /** The Bonferroni limit those residuals were held to; null when too few readings to test. */
+  outlierLimit: number | null;
   /** Lack-of-fit F test when standards are replicated. */
   lackOfFit: LackOfFit | null;
   /** The underlying straight-line fit (for the report). */
@@ -125,6 +127,9 @@ export function calibrate(standards: readonly CalibrationStandard[], options: Ca
   }
   const x = Float64Array.from(standards, (s) => s.concentration_M);
   const y = Float64Array.from(standards, (s) => s.absorbance);
+  if (y.every((a) => a === y[0])) {
+    return { ok: false, error: `all ${standards.length} standards read ${y[0]} AU whatever their concentration, so there is no line to fit; check the wavelength and that the absorbance column is the one read.` };
+  }
   // Weights: the runs' own noise model, where the replicates show the noise growing with A.
   const grows = noiseGrows(x, y);
   const weighted = options.weighted === 'auto' || options.weighted === undefined ? grows?.grows === true : options.weighted;
@@ -142,6 +147,11 @@ export function calibrate(standards: readonly CalibrationStandard[], options: Ca
   // Origin or intercept: both fitted, the intercept kept when the t-test rejects a = 0.
   const withIntercept = lineOf(true);
   const interceptP = withIntercept.ok ? interceptTestP(withIntercept.intercept, withIntercept.byName.intercept!.stdErr, withIntercept.dof) : null;
+  // Judged on the line with an intercept: forced through the origin, standards that fall
+  // with concentration can still give a positive slope.
+  if (withIntercept.ok && withIntercept.slope <= 0) {
+    return { ok: false, error: `the absorbance falls as the concentration rises (slope ${withIntercept.slope.toPrecision(3)} AU per M with an intercept), which no Beer–Lambert line does; check that the columns are not swapped and that the standards are listed with their own concentrations.` };
+  }
   let hasIntercept: boolean;
   let reason: string;
   if (options.intercept === true || options.intercept === false) {
@@ -227,6 +237,7 @@ export function calibrate(standards: readonly CalibrationStandard[], options: Ca
       // weighted, the residual SD is a scale on the noise model: σ at the blank is s·σ_A(0)
       detection: detectionLimits(fit.slope, zeroDof || fit.residualSd === null ? null : fit.residualSd * (weighted ? absorbanceSigma(0, sigmaT) : 1), options.blankAbsorbances),
       outlyingStandards: studentised.flagged,
+      outlierLimit: studentised.limit,
       lackOfFit: lof,
       fit,
     },

@@ -99,6 +99,8 @@ export class RunAnalyzer implements RunAnalyzerLike {
   private nextRefitAt = FIRST_REFIT_AT;
   private refittedAt = 0;
   private previous: Partial<Record<ModelName, Float64Array>> = {};
+  /** Each model's last fit without the bounds on A∞ (boundedEnd.ts), to warm-start the next. */
+  private previousUnbounded: Partial<Record<ModelName, Float64Array>> = {};
   private advisor = new StopAdvisor();
   private cached: AnalysisResult;
   private leftOut: LeftOutCounts = { ...NO_LEFT_OUT };
@@ -376,8 +378,10 @@ export class RunAnalyzer implements RunAnalyzerLike {
       const f = fits[name];
       if (!f.ok) continue;
       this.previous[name] = Float64Array.from(f.params);
-      const w = widenForBound(f, this.series, base);
+      const pu = this.previousUnbounded[name];
+      const w = widenForBound(f, this.series, base, pu && ((pu[1] - pu[2] < 0 ? -1 : 1) === base.direction) ? pu : undefined);
       if (w) widened[name] = w;
+      if (w?.unboundedParams) this.previousUnbounded[name] = w.unboundedParams;
     }
     const end = this.winFirst + this.winCount;
     const outliers = [...this.binnedOutliers];

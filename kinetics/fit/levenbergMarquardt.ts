@@ -83,6 +83,16 @@ export function runLevenbergMarquardt(prob: LmProblem, buf: LmBuffers, maxIterat
         continue;
       }
       choleskySolve(a, m, delta);
+      // A parameter on its bound that this step would push through it is held for the
+      // step and the rest solved again: clamping a coupled step instead spoils its
+      // direction, and the iteration then creeps along the bound by shortened steps.
+      let held = false;
+      for (let j = 0; j < m; j++) {
+        if (active[j]) continue;
+        const k = free[j]!;
+        if ((p[k]! <= lower[j]! && delta[j]! < 0) || (p[k]! >= upper[j]! && delta[j]! > 0)) { active[j] = 1; held = true; }
+      }
+      if (held) continue;
       pTrial.set(p);
       for (let j = 0; j < m; j++) {
         const k = free[j]!;

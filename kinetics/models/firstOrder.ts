@@ -6,8 +6,12 @@
  * searched (on ln k, where the profile χ² is well shaped). This cannot wander off in
  * the way a joint 3-parameter search can when A∞ and k trade against each other.
  */
-import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
+import { AINF as AINF_INDEX, A0 as A0_INDEX, K as K_INDEX, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
 import { aInfAtBoundWarning, failedModelFit, finishFit } from './rateLawStatistics';
+// The parameter indices read once into module constants: an imported binding is a property
+// read through a getter in some module loaders (the test runner's, tsx's), and these are
+// read for every reading at every iteration.
+const AINF = AINF_INDEX, A0 = A0_INDEX, K = K_INDEX;
 
 export const firstOrderLaw: RateLaw = {
   name: 'first',

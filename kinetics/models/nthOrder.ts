@@ -5,8 +5,12 @@
  * n itself is fitted (by the general core) and reported with its standard error.
  * Below first order the reactant runs out in finite time: c = 0 once C^m − m k t ≤ 0.
  */
-import { AINF, A0, K, ORDER, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
+import { AINF as AINF_INDEX, A0 as A0_INDEX, K as K_INDEX, ORDER as ORDER_INDEX, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
 import { fitWithCore } from './coreFit';
+// The parameter indices read once into module constants: an imported binding is a property
+// read through a getter in some module loaders (the test runner's, tsx's), and these are
+// read for every reading at every iteration.
+const AINF = AINF_INDEX, A0 = A0_INDEX, K = K_INDEX, ORDER = ORDER_INDEX;
 
 /** Orders searched: 0 to 3 covers the rate laws met in solution kinetics (from memory: common practice). */
 export const NTH_ORDER_MIN = 0;

@@ -4,8 +4,12 @@
  * falling run and negative for a rising one (an absorbing product formed). Fitted by the
  * general core.
  */
-import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
+import { AINF as AINF_INDEX, A0 as A0_INDEX, K as K_INDEX, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
 import { fitWithCore } from './coreFit';
+// The parameter indices read once into module constants: an imported binding is a property
+// read through a getter in some module loaders (the test runner's, tsx's), and these are
+// read for every reading at every iteration.
+const AINF = AINF_INDEX, A0 = A0_INDEX, K = K_INDEX;
 
 export const secondOrderLaw: RateLaw = {
   name: 'second',
@@ -63,5 +67,5 @@ export function secondOrderStart(s: FitSeries, opts: ModelOptions): Float64Array
 
 export function fitSecondOrder(s: FitSeries, opts: ModelOptions): ModelFit {
   const start = opts.previous && opts.previous.every(Number.isFinite) ? opts.previous : secondOrderStart(s, opts);
-  return fitWithCore('second', secondOrderLaw, s, start, opts);
+  return fitWithCore('second', secondOrderLaw, s, start, opts, { rateOrder: 2 });
 }

@@ -12,9 +12,13 @@
  * and the photometer's ceiling for a rising one), so that A0 − A∞ stays an honest upper
  * bound on what can still react. Half-life and progress use A0 − A∞ throughout.
  */
-import { AINF, A0, K, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
+import { AINF as AINF_INDEX, A0 as A0_INDEX, K as K_INDEX, type FitSeries, type ModelFit, type ModelOptions, type RateLaw } from './modelTypes';
 import { brentMinimum } from './firstOrder';
 import { failedModelFit, finishFit } from './rateLawStatistics';
+// The parameter indices read once into module constants: an imported binding is a property
+// read through a getter in some module loaders (the test runner's, tsx's), and these are
+// read for every reading at every iteration.
+const AINF = AINF_INDEX, A0 = A0_INDEX, K = K_INDEX;
 
 export const ZERO_MIN_PLATEAU = 3;
 

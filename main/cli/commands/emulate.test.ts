@@ -7,7 +7,7 @@ describe('rateline emulate: bad input is one clear line', () => {
     await expect(run([])).rejects.toThrow(InputError);
     await expect(run([])).rejects.toThrow(/no --port PATH given/);
     await expect(run(['--port', '/dev/x', '--speed', 'fast'])).rejects.toThrow(/--speed fast is not a speed factor/);
-    await expect(run(['--port', '/dev/x', '--a0', '0.1', '--a-inf', '0.2'])).rejects.toThrow(/--a-inf 0.2 is not below --a0 0.1/);
+    await expect(run(['--port', '/dev/x', '--a0', '0.1', '--a-inf', '0.1'])).rejects.toThrow(/--a-inf 0.1 equals --a0, so nothing would change/);
     await expect(run(['--port', '/dev/x', '--order', 'fifth'])).rejects.toThrow(/--order fifth is not an order/);
     await expect(run(['--port', '/dev/rateline-no-such-port'])).rejects.toThrow(/serial port \/dev\/rateline-no-such-port not found \((ports present: |no serial ports)/);
   });

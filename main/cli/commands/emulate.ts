@@ -32,7 +32,8 @@ Rateline line protocol. For a serial pair without hardware:
   --order O        zero, first, second or a number (default first)
   --k K            rate constant (default 0.0035, the demo's, in the order's units)
   --a0 A           absorbance at mixing (default 0.65)
-  --a-inf A        end absorbance (default 0.005)
+  --a-inf A        end absorbance (default 0.005; above --a0 for a run that rises as an
+                   absorbing product forms)
   --noise-t S      transmittance noise sigma_T (default 0.001)
   --interval S     seconds between readings (default 1)
   --counts         send raw detector counts (the host must take a blank) instead of absorbance
@@ -72,7 +73,8 @@ export async function run(argv: string[]): Promise<number> {
   const k = args.number('k', (x) => x > 0, 'a positive rate constant') ?? DEMO_RUN.k;
   const a0 = args.number('a0', (x) => x > 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.a0;
   const aInf = args.number('a-inf', (x) => x >= 0 && x < 5, 'an absorbance between 0 and 5') ?? DEMO_RUN.aInf;
-  if (!(aInf < a0)) throw new InputError(`rateline emulate: --a-inf ${aInf} is not below --a0 ${a0}; the absorbance must fall as the dye reacts.`);
+  // Above --a0, an absorbing product forms and the readings rise (the analyzer fits either way).
+  if (aInf === a0) throw new InputError(`rateline emulate: --a-inf ${aInf} equals --a0, so nothing would change; give an end absorbance below --a0 (the dye used up) or above it (an absorbing product forms).`);
   const sigmaT = args.number('noise-t', (x) => x >= 0 && x < 0.1, 'a transmittance noise between 0 and 0.1') ?? DEMO_RUN.sigmaT;
   const interval_s = args.number('interval', (x) => x >= 0.01 && x <= 3600, 'an interval between 0.01 and 3600 s') ?? 1;
   const drift = args.number('temp-drift', (x) => Math.abs(x) <= 10, 'a drift between -10 and 10 K/min') ?? 0;

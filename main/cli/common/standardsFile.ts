@@ -16,7 +16,7 @@ export interface FittedStandards {
 }
 
 /** Reads a CSV of standards and fits the Beer–Lambert line; every problem is one InputError naming the file and line. */
-export async function fitStandardsFile(file: string, options: { pathLength_cm: number; intercept: boolean }): Promise<FittedStandards> {
+export async function fitStandardsFile(file: string, options: { pathLength_cm: number; intercept: boolean | 'auto' }): Promise<FittedStandards> {
   const text = await readUserText(file, 'a CSV of standards (.csv)');
   const read = readHeader(text, file, 'a concentration column (concentration_M, concentration_mM or concentration_uM) and absorbance');
   if (!read.ok) throw new InputError(read.error);
