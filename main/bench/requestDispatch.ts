@@ -7,6 +7,7 @@ import { join } from 'node:path';
 import type { SpectrumFrame } from '../../acquisition/sources/sourceTypes';
 import { LIMITS, type BridgeRequest } from '../bridge/contract';
 import { indexRunsFolder } from '../../acquisition/record/runLibrary';
+import { combineInFolder } from './studyCombine';
 import type { BenchSession } from './benchSession';
 import { Refusal } from './refusal';
 import { exportCsv, type ExportInput } from '../../acquisition/exports/runCsvExport';
@@ -18,6 +19,7 @@ export async function dispatch(s: BenchSession, req: BridgeRequest): Promise<unk
     case 'getState': return s.snapshot();
     case 'listPorts': return { ports: await s.deps.listPorts() };
     case 'listRecords': return { records: await listRecordFiles(s.deps.dataDir) };
+    case 'combineRuns': return combineInFolder(s.deps.dataDir, req);
     case 'listLibrary': {
       // Long text fields are cut to what the bridge carries; the record keeps them whole.
       const { entries, fromCache } = await indexRunsFolder(s.deps.dataDir, LIMITS.maxRecords);

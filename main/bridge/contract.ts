@@ -142,6 +142,20 @@ export const RequestSchema = z.discriminatedUnion('type', [
   z.object({ type: z.literal('listRecords') }).strict(),
   /** The run library: every record in the runs folder with its sample, conditions, k and verdict. */
   z.object({ type: z.literal('listLibrary') }).strict(),
+  /**
+   * A study of records in the runs folder, combined exactly as `rateline combine` does: the
+   * rate law in the excess reagent, or the Arrhenius and Eyring lines; saved as a study file
+   * in the runs folder when `saveAs` is given.
+   */
+  z.object({
+    type: z.literal('combineRuns'),
+    files: z.array(z.string().min(1).max(LIMITS.maxFileName)).min(2).max(100),
+    by: z.enum(['concentration', 'temperature']),
+    reagent: z.string().min(1).max(80).optional(),
+    followed: z.string().min(1).max(80).optional(),
+    predictAt_C: z.number().min(-50).max(200).optional(),
+    saveAs: z.object({ name: z.string().regex(/^[\w.-]{1,80}$/, 'letters, digits, dot, dash or underscore'), safetyNote: z.string().min(1).max(LIMITS.maxNote) }).strict().optional(),
+  }).strict(),
   z.object({ type: z.literal('chooseSource'), source: SourceChoiceSchema }).strict(),
   z.object({ type: z.literal('connect') }).strict(),
   z.object({ type: z.literal('disconnect') }).strict(),
@@ -295,6 +309,14 @@ export const ReplyValueSchemas = {
   getState: BenchStateSchema,
   listPorts: z.object({ ports: z.array(PortInfoSchema).max(LIMITS.maxPorts) }),
   listRecords: z.object({ records: z.array(RecordInfoSchema).max(LIMITS.maxRecords) }),
+  combineRuns: z.object({
+    /** The command's report, as `rateline combine` prints it. */
+    text: z.string().max(200_000),
+    /** The notes and warnings it writes beside the report. */
+    notes: z.array(z.string().max(2000)).max(200),
+    /** The command's JSON (`--format json`): runs, rate law or Arrhenius and Eyring, warnings. */
+    result: z.record(z.string(), z.unknown()),
+  }),
   listLibrary: z.object({ entries: z.array(LibraryEntrySchema).max(LIMITS.maxRecords), fromCache: nonNegInt }),
   chooseSource: BenchStateSchema,
   connect: BenchStateSchema,

@@ -9,6 +9,7 @@ import type { BenchActions } from '../benchActions';
 import { h, setText } from '../elements';
 import { ciHalfWidth, formatPlusMinus, prettyUnit } from '../numberFormat';
 import type { Store } from '../store';
+import { createStudyPanel } from './studyPanel';
 
 const VERDICT_WORDS: Record<string, string> = {
   zero: 'zero order', first: 'first order', second: 'second order', fractional: 'not an integer order',
@@ -49,15 +50,17 @@ export function createLibraryPanel(store: Store, actions: BenchActions): Library
   const close = h('button', { type: 'button', class: 'small-button' }, 'Close');
   const refresh = h('button', { type: 'button', class: 'small-button' }, 'Refresh');
   const body = h('tbody');
+  const study = createStudyPanel(actions);
   const table = h('table', { class: 'library-table', 'data-testid': 'library' },
-    h('thead', {}, h('tr', {}, ...['Started', 'Sample', 'Operator', 'Conditions', 'Readings', 'k (95 % CI)', 'Order', ''].map((c) => h('th', { scope: 'col' }, c)))),
+    h('thead', {}, h('tr', {}, ...['', 'Started', 'Sample', 'Operator', 'Conditions', 'Readings', 'k (95 % CI)', 'Order', ''].map((c) => h('th', { scope: 'col' }, c)))),
     body);
   const element = h('section', { class: 'library-overlay', role: 'dialog', 'aria-modal': 'true', 'aria-label': 'Run library', hidden: true },
     h('div', { class: 'library-card panel' },
       h('div', { class: 'library-head' }, h('h2', {}, 'Run library'), search, count, refresh, close),
       h('p', { class: 'small' }, 'Every record in the runs folder; a record copied into the folder appears here. k and the order are the analysis of the whole record.'),
-      h('div', { class: 'library-scroll' }, table)));
+      h('div', { class: 'library-scroll' }, table, study.element)));
   let entries: LibraryEntryView[] = [];
+  const ticked = new Set<string>();
 
   const show = () => {
     const q = search.value.trim();
@@ -66,7 +69,7 @@ export function createLibraryPanel(store: Store, actions: BenchActions): Library
     body.replaceChildren(...shown.map((e) => {
       if (e.problem) {
         return h('tr', { class: 'library-problem' },
-          h('td', {}, when(e.started, e.modified)), h('td', { colspan: 6 }, `Cannot be listed: ${e.problem}`), h('td', {}, ''));
+          h('td', {}, ''), h('td', {}, when(e.started, e.modified)), h('td', { colspan: 6 }, `Cannot be listed: ${e.problem}`), h('td', {}, ''));
       }
       const play = h('button', { type: 'button', class: 'small-button' }, 'Play back');
       play.addEventListener('click', async () => {
@@ -76,8 +79,14 @@ export function createLibraryPanel(store: Store, actions: BenchActions): Library
         }
       });
       const sample = `${e.sample ?? '(no sample named)'}${e.demo ? ' · demo' : ''}${e.notice ? ' · recovered' : ''}`;
+      const tick = h('input', { type: 'checkbox', 'aria-label': `In the study: ${e.name}` });
+      tick.checked = ticked.has(e.name);
+      tick.addEventListener('change', () => {
+        if (tick.checked) ticked.add(e.name); else ticked.delete(e.name);
+        study.setRuns([...ticked]);
+      });
       return h('tr', { title: e.name },
-        h('td', {}, when(e.started, e.modified)), h('td', {}, sample), h('td', {}, e.operator ?? ''),
+        h('td', {}, tick), h('td', {}, when(e.started, e.modified)), h('td', {}, sample), h('td', {}, e.operator ?? ''),
         h('td', {}, [e.conditions, e.temperature_C === null ? '' : `${e.temperature_C} °C`].filter(Boolean).join(', ')),
         h('td', { class: 'num' }, String(e.readings)), h('td', { class: 'num' }, kWords(e)),
         h('td', {}, e.verdict ? VERDICT_WORDS[e.verdict] ?? e.verdict : '—'), h('td', {}, play));
@@ -88,6 +97,8 @@ export function createLibraryPanel(store: Store, actions: BenchActions): Library
     const r = await actions.send({ type: 'listLibrary' });
     if (!r) return;
     entries = r.entries;
+    for (const n of [...ticked]) if (!entries.some((e) => e.name === n && !e.problem)) ticked.delete(n);
+    study.setRuns([...ticked]);
     show();
   };
   search.addEventListener('input', show);

@@ -192,13 +192,28 @@ interface RunDetails {
   readings: { time_s: Float64Array; absorbance: Float64Array } | null;
 }
 
+/** Where the command's answer and its notes go: the terminal, or a caller that shows them (the study screen). */
+export interface CombineOutput {
+  log(text: string): void;
+  error(text: string): void;
+}
+
 export async function run(argv: string[]): Promise<number> {
+  return combineRuns(argv, console);
+}
+
+/**
+ * The whole command with its output handed to `io`: the study screen runs exactly this,
+ * so its numbers are the command's to the last digit. Bad input throws InputError (or a
+ * file's own error) with the one sentence to show.
+ */
+export async function combineRuns(argv: string[], io: CombineOutput): Promise<number> {
   const cmd = 'combine';
   const args = parseCommandArguments(cmd, argv, {
     by: 'value', reagent: 'value', value: 'values', format: 'value', followed: 'value', stoichiometry: 'value',
     'order-in-reagent': 'value', 'predict-at-c': 'value', 'save-study': 'value', 'safety-note': 'value', calibration: 'value',
   });
-  if (args.help) { console.log(HELP); return 0; }
+  if (args.help) { io.log(HELP); return 0; }
   const studyFiles = args.positionals.filter(isStudyFileName);
   if (studyFiles.length > 1) throw new InputError('rateline combine: more than one study file given; combine one study at a time.');
   if (studyFiles.length === 1 && args.positionals.length > 1) throw new InputError('rateline combine: give a study file or run files, not both; add the runs to the study by saving it again.');
@@ -243,7 +258,7 @@ export async function run(argv: string[]): Promise<number> {
   const keep = (file: string, x: number, xFrom: CombinedRun['xFrom'], conditions: RunConditions, t: Float64Array, a: Float64Array) => {
     const fit = analyseRun(t, a, file);
     if ('reason' in fit) { leftOut.push({ label: file, reason: fit.reason }); saved.push({ file, conditions, included: false, leftOutReason: fit.reason }); return; }
-    if (fit.note) console.error(`rateline combine: note: ${file}: ${fit.note}.`);
+    if (fit.note) io.error(`rateline combine: note: ${file}: ${fit.note}.`);
     runs.push({ label: file, x, xFrom, k_perSecond: fit.k, kStdErr_perSecond: fit.se });
     details.set(file, { file, conditions, fit, readings: { time_s: t, absorbance: a } });
     saved.push({ file, conditions, included: true, leftOutReason: null });
@@ -251,14 +266,14 @@ export async function run(argv: string[]): Promise<number> {
   // Read one after another, so that the first bad file named is the one reported.
   const inputs: { file: string; text: string; studyRun: StudyRun | null }[] = study ? study.inputs.map((i) => ({ file: i.file, text: i.text, studyRun: i.run })) : [];
   if (!study) for (const file of args.positionals) inputs.push({ file, text: await readUserText(file, 'a run file (.jsonl or .csv)'), studyRun: null });
-  if (study?.newerRevision) console.error(`rateline combine: note: ${study.path} is version ${study.study.revision}; version ${study.newerRevision} beside it is the current one.`);
+  if (study?.newerRevision) io.error(`rateline combine: note: ${study.path} is version ${study.study.revision}; version ${study.newerRevision} beside it is the current one.`);
   for (const { file, text, studyRun } of inputs) {
     if (studyRun && !studyRun.included) { leftOut.push({ label: file, reason: `left out in the study: ${studyRun.leftOutReason}` }); continue; }
     const option = values.get(resolve(file));
     const firstLine = text.slice(0, text.indexOf('\n') >>> 0);
     if (extname(file).toLowerCase() === '.jsonl' || looksLikeRunRecordLine(firstLine)) {
       const record = parseRunRecord(text, file);
-      if (record.recovery.message) console.error(record.recovery.message);
+      if (record.recovery.message) io.error(record.recovery.message);
       const x = studyRun ? studyRunX(study!, { file, text, run: studyRun }) : option ? option.x : recordX(record, file, by, by === 'concentration' ? reagent : undefined);
       const meta = finalRunMetadata(record);
       const conditions: RunConditions = studyRun ? studyRun.conditions : withX({ concentrations: recordConcentrations(record), temperature_C: meta.temperature_C }, by, x, reagent);
@@ -286,7 +301,7 @@ export async function run(argv: string[]): Promise<number> {
     const conditions = studyRun ? studyRun.conditions : withX({ concentrations: [], temperature_C: null }, by, x, reagent);
     keep(file, x, studyRun ? 'study' : 'option', conditions, parsed.run.time_s, parsed.run.absorbance);
   }
-  for (const l of leftOut) console.error(`rateline combine: warning: ${l.label} is left out: ${l.reason}.`);
+  for (const l of leftOut) io.error(`rateline combine: warning: ${l.label} is left out: ${l.reason}.`);
   if (runs.length < 2) {
     const leftNote = leftOut.length > 0 ? ` (${leftOut.length} left out, see the warnings above)` : '';
     throw new InputError(`rateline combine: only ${runs.length} usable run(s)${leftNote}; ${by === 'concentration' ? 'a rate law needs runs at two or more concentrations' : 'an activation energy needs runs at two or more temperatures'}, so add runs.`);
@@ -307,7 +322,7 @@ export async function run(argv: string[]): Promise<number> {
   const save = () => {
     if (!saveTarget) return;
     savedPath = saveCombinedStudy(saveTarget, by, saved, { followedSpecies: followed!, excessReagent: reagent!, stoichiometry, safetyNote: args.value('safety-note')!, calibration: args.value('calibration') });
-    console.error(`rateline combine: saved the study as ${savedPath}.`);
+    io.error(`rateline combine: saved the study as ${savedPath}.`);
   };
   const studyInfo = study ? { path: study.path, name: study.study.name, revision: study.study.revision, safetyNote: study.study.safetyNote } : null;
 
@@ -316,8 +331,8 @@ export async function run(argv: string[]): Promise<number> {
     if ('ok' in series) throw new InputError(`rateline combine: ${series.error}`);
     save();
     const out = { by: 'concentration' as const, study: studyInfo, savedStudy: savedPath, runs: runs.map((r) => ({ ...r, concentration_M: r.x })), leftOut, ...series };
-    if (format === 'json') console.log(json(out));
-    else console.log(formatCombinedText(out));
+    if (format === 'json') io.log(json(out));
+    else io.log(formatCombinedText(out));
     return 0;
   }
   const series = combineTemperatureSeries(seriesRuns, { orderInExcess: orderInReagent, predictAt_C: predictAt });
@@ -334,8 +349,8 @@ export async function run(argv: string[]): Promise<number> {
     leftOut,
     ...series,
   };
-  if (format === 'json') console.log(json(out));
-  else console.log(formatCombinedText(out));
+  if (format === 'json') io.log(json(out));
+  else io.log(formatCombinedText(out));
   return 0;
 }
 
