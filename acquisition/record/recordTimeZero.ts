@@ -1,0 +1,54 @@
+/**
+ * The one time-zero rule for every reader of a run record (the screen's replay, analyze,
+ * export, combine): from version 2 on, the LAST `mixed` event sets time zero (a second
+ * press of Mixed corrects the first); a version-1 record keeps the rule it was written
+ * under, the FIRST `mixed` event. Without a `mixed` event, the header's
+ * `reactionStart_s` (an instrument that starts the reaction itself) is time zero, and
+ * without that the device times are used as they are.
+ */
+import type { RecordHeader, RunEvent } from './runRecordFormat';
+
+/** What the reader needs of a record's events: the event and how many readings came before it. */
+export interface EventAtIndex {
+  index: number;
+  event: RunEvent;
+}
+
+export interface RecordTimeZero {
+  /** Device time of time zero, or null when the record names none (device times are run times). */
+  deviceTime_s: number | null;
+  /** Readings recorded before the deciding `mixed` event (0 otherwise). */
+  index: number;
+  /** Where time zero came from. */
+  from: 'mixed' | 'reactionStart' | 'none';
+}
+
+export function recordTimeZero(header: Pick<RecordHeader, 'version' | 'reactionStart_s'>, events: readonly EventAtIndex[]): RecordTimeZero {
+  let mixed: EventAtIndex | null = null;
+  for (const p of events) {
+    if (p.event.ev !== 'mixed') continue;
+    mixed = p;
+    if (header.version === 1) break;
+  }
+  if (mixed) return { deviceTime_s: mixed.event.t, index: mixed.index, from: 'mixed' };
+  const start = header.version >= 2 ? header.reactionStart_s ?? null : null;
+  if (start !== null) return { deviceTime_s: start, index: 0, from: 'reactionStart' };
+  return { deviceTime_s: null, index: 0, from: 'none' };
+}
+
+export interface RecordedFitSettings {
+  from_s: number | null;
+  to_s: number | null;
+  targetHalfLives: number;
+  precision: number;
+}
+
+/** The fit settings in force at the stop (the last `fitSettings` event), or null when the record has none. */
+export function recordFitSettings(events: readonly EventAtIndex[]): RecordedFitSettings | null {
+  let found: RecordedFitSettings | null = null;
+  for (const p of events) {
+    const e = p.event;
+    if (e.ev === 'fitSettings') found = { from_s: e.from_s, to_s: e.to_s, targetHalfLives: e.targetHalfLives, precision: e.precision };
+  }
+  return found;
+}
