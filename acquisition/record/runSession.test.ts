@@ -8,7 +8,7 @@ import { demoHeader } from '../../test/fixtures/demoRecordHeader';
 import { Journal, type JournalFs } from './journal';
 import { memoryJournalFs } from '../../test/fixtures/memoryJournalFs';
 import { analysisReadings, parseRunRecord, readRunRecord } from './journalReader';
-import { Recorder } from './recorder';
+import { RunSession } from './runSession';
 import { ReplaySource, timelineFromRecord, timelineFromReadings } from '../sources/replaySource';
 import { SimulatedSource } from '../sources/simulatedSource';
 import { defaultInstrumentSettings } from '../sources/simulatedInstrument';
@@ -44,7 +44,7 @@ describe('recorder', () => {
   it('journals every reading, analyses from time zero on, and closes the record when the source ends', async () => {
     const journal = newRecord('copy.jsonl');
     const analyzer = new RunAnalyzer();
-    const recorder = new Recorder({ source: demoSource(), journal, analyzer, wavelength_nm: 630 });
+    const recorder = new RunSession({ source: demoSource(), journal, analyzer, wavelength_nm: 630 });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('sourceEnded');
@@ -77,7 +77,7 @@ describe('recorder', () => {
 
   it('stops at the run-time limit', async () => {
     const journal = newRecord('limit.jsonl');
-    const recorder = new Recorder({ source: demoSource(300, false), journal, analyzer: new RunAnalyzer(), maxRunSeconds: 120 });
+    const recorder = new RunSession({ source: demoSource(300, false), journal, analyzer: new RunAnalyzer(), maxRunSeconds: 120 });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('limit');
@@ -90,7 +90,7 @@ describe('recorder', () => {
   it('stops when the advice says so, not before it holds', async () => {
     const journal = newRecord('advice.jsonl');
     const analyzer = new RunAnalyzer();
-    const recorder = new Recorder({ source: demoSource(1500, false), journal, analyzer, untilAdvice: true });
+    const recorder = new RunSession({ source: demoSource(1500, false), journal, analyzer, untilAdvice: true });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('advice');
@@ -105,7 +105,7 @@ describe('recorder', () => {
   it('waits for a manual time zero and analyses nothing before it', async () => {
     const journal = newRecord('manual.jsonl');
     const analyzer = new RunAnalyzer();
-    const recorder = new Recorder({ source: demoSource(60, false), journal, analyzer, timeZero: 'manual' });
+    const recorder = new RunSession({ source: demoSource(60, false), journal, analyzer, timeZero: 'manual' });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(analyzer.count).toBe(0);
@@ -121,7 +121,7 @@ describe('recorder', () => {
     source.on((e) => {
       if (e.type === 'reading' && ++readings === 100) fs.failWrites = 'ENOSPC';
     });
-    const recorder = new Recorder({ source, journal, analyzer: new RunAnalyzer() });
+    const recorder = new RunSession({ source, journal, analyzer: new RunAnalyzer() });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('error');
@@ -137,7 +137,7 @@ describe('recorder', () => {
     const journal = newRecord('counts.jsonl');
     const analyzer = new RunAnalyzer();
     const source = new SimulatedSource({ instrument: defaultInstrumentSettings(DEMO_RUN, { sends: 'counts', seed: 4 }), speed: 'max' });
-    const recorder = new Recorder({ source, journal, analyzer, timeZero: { deviceTime_s: 0 }, maxRunSeconds: 400 });
+    const recorder = new RunSession({ source, journal, analyzer, timeZero: { deviceTime_s: 0 }, maxRunSeconds: 400 });
     await recorder.start();
     expect(recorder.progress().phase).toBe('blank'); // the device said it sends counts: blank asked for
     const outcome = await recorder.finished;
@@ -170,7 +170,7 @@ describe('recorder', () => {
       },
       result: () => real.result(),
     };
-    const recorder = new Recorder({ source: demoSource(200, false), journal, analyzer: failing, untilAdvice: true });
+    const recorder = new RunSession({ source: demoSource(200, false), journal, analyzer: failing, untilAdvice: true });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('sourceEnded');
