@@ -4,7 +4,8 @@
  * press of Mixed corrects the first); a version-1 record keeps the rule it was written
  * under, the FIRST `mixed` event. Without a `mixed` event, the header's
  * `reactionStart_s` (an instrument that starts the reaction itself) is time zero, and
- * without that the device times are used as they are.
+ * without that the first reading (version 2; the bench's run clock starts there too)
+ * or the device times as they are (version 1).
  */
 import type { RecordHeader, RunEvent } from './runRecordFormat';
 
@@ -15,12 +16,12 @@ export interface EventAtIndex {
 }
 
 export interface RecordTimeZero {
-  /** Device time of time zero, or null when the record names none (device times are run times). */
+  /** Device time of time zero, or null: the reading at `index` (firstReading), or none at all (device times are run times). */
   deviceTime_s: number | null;
   /** Readings recorded before the deciding `mixed` event (0 otherwise). */
   index: number;
   /** Where time zero came from. */
-  from: 'mixed' | 'reactionStart' | 'none';
+  from: 'mixed' | 'reactionStart' | 'firstReading' | 'none';
 }
 
 export function recordTimeZero(header: Pick<RecordHeader, 'version' | 'reactionStart_s'>, events: readonly EventAtIndex[]): RecordTimeZero {
@@ -33,6 +34,7 @@ export function recordTimeZero(header: Pick<RecordHeader, 'version' | 'reactionS
   if (mixed) return { deviceTime_s: mixed.event.t, index: mixed.index, from: 'mixed' };
   const start = header.version >= 2 ? header.reactionStart_s ?? null : null;
   if (start !== null) return { deviceTime_s: start, index: 0, from: 'reactionStart' };
+  if (header.version >= 2) return { deviceTime_s: null, index: 0, from: 'firstReading' };
   return { deviceTime_s: null, index: 0, from: 'none' };
 }
 

@@ -187,7 +187,10 @@ export class ReplaySource implements ReadingSource {
 
   /** Device time of the record's time zero (recordTimeZero.ts), or null when it has none (a CSV run). */
   get recordedTimeZero_s(): number | null {
-    return this.timeline.header ? recordTimeZero(this.timeline.header, this.timeline.events).deviceTime_s : null;
+    if (!this.timeline.header) return null;
+    const zero = recordTimeZero(this.timeline.header, this.timeline.events);
+    if (zero.from === 'firstReading') return this.timeline.t_s.length > 0 ? this.timeline.t_s[0]! : null;
+    return zero.deviceTime_s;
   }
 
   /** The fit settings the record's run stopped with, or null (an older record, a CSV run). */
