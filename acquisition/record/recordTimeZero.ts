@@ -54,3 +54,29 @@ export function recordFitSettings(events: readonly EventAtIndex[]): RecordedFitS
   }
   return found;
 }
+
+export interface FitSettingsOverride {
+  from_s?: number | undefined;
+  to_s?: number | undefined;
+  targetHalfLives?: number | undefined;
+  precision?: number | undefined;
+}
+
+/**
+ * The analyzer's window, target and precision for a recorded run: what the command line
+ * gives, else what the run stopped with, else the analyzer's defaults (left out). The
+ * one place readers (analyze, export, combine) combine the two.
+ */
+export function fitSettingsToApply(recorded: RecordedFitSettings | null, given: FitSettingsOverride = {}): FitSettingsOverride {
+  const pick = (g: number | undefined, r: number | null | undefined): number | undefined => g ?? (r === null ? undefined : r);
+  const out: FitSettingsOverride = {};
+  const from_s = pick(given.from_s, recorded?.from_s);
+  const to_s = pick(given.to_s, recorded?.to_s);
+  const targetHalfLives = pick(given.targetHalfLives, recorded?.targetHalfLives);
+  const precision = pick(given.precision, recorded?.precision);
+  if (from_s !== undefined) out.from_s = from_s;
+  if (to_s !== undefined) out.to_s = to_s;
+  if (targetHalfLives !== undefined) out.targetHalfLives = targetHalfLives;
+  if (precision !== undefined) out.precision = precision;
+  return out;
+}

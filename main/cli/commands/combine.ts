@@ -8,6 +8,7 @@
  * per run analysed elsewhere: concentration or temperature, k, k_se) may stand in for run
  * files. Exit 0 done, 2 bad input.
  */
+import { fitSettingsToApply, recordFitSettings, type RecordedFitSettings } from '../../../acquisition/record/recordTimeZero';
 import { readUserText } from '../../../acquisition/files/runFile';
 import { extname, resolve } from 'node:path';
 import { PLAUSIBLE_WORDS, plausible } from '../common/benchRanges';
@@ -132,14 +133,15 @@ function summaryRuns(text: string, file: string, by: CombineBy, names: string[],
  * for another order; a run left undecided while first order fits best (most often a
  * chance rejection by the runs test, about one good run in twenty) is kept, with a note.
  */
-function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string): { k: number; se: number; note?: string } | { reason: string } {
+function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string, settings: RecordedFitSettings | null = null): { k: number; se: number; note?: string } | { reason: string } {
   if (time_s.length < MIN_POINTS_TO_ESTIMATE) {
     throw new InputError(`${file}: only ${time_s.length} reading(s); a fit needs at least ${MIN_POINTS_TO_ESTIMATE}. Record a longer run or leave this file out.`);
   }
   // The same checks of a run as a whole as rateline analyze makes (times that advance, a swapped blank).
   const problem = runProblem(time_s, absorbance, file);
   if (problem) throw new InputError(problem);
-  const analyzer = new RunAnalyzer();
+  // A recorded run is fitted as it was stopped: its window, target and precision.
+  const analyzer = new RunAnalyzer(fitSettingsToApply(settings));
   for (let i = 0; i < time_s.length; i++) analyzer.add(time_s[i]!, absorbance[i]!);
   const r = analyzer.flush();
   const first = r.models.first;
@@ -187,7 +189,7 @@ export async function run(argv: string[]): Promise<number> {
       if (record.recovery.message) console.error(record.recovery.message);
       const x = option ? option.x : recordX(record, file, by, reagent);
       const readings = analysisReadings(record);
-      const fit = analyseRun(readings.time_s, readings.absorbance, file);
+      const fit = analyseRun(readings.time_s, readings.absorbance, file, recordFitSettings(record.events));
       if ('reason' in fit) leftOut.push({ label: file, reason: fit.reason });
       else {
         if (fit.note) console.error(`rateline combine: note: ${file}: ${fit.note}.`);
