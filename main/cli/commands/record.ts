@@ -243,7 +243,9 @@ function finish(out: string, outcome: RunSessionOutcome, mode: 'text' | 'json', 
     return EXIT_BAD_INPUT;
   }
   if (mode === 'json') {
-    say(JSON.stringify({ stopped: outcome.reason, detail: outcome.detail, readings: outcome.readings, record: out }));
+    // The final refit (the same numbers rateline analyze gives of the record), non-finite numbers as null like analyze's JSON.
+    say(JSON.stringify({ stopped: outcome.reason, detail: outcome.detail, readings: outcome.readings, record: out, result: outcome.result },
+      (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v)));
   } else {
     say(`rateline record: stopped (${describeStop(outcome)}); ${outcome.readings} readings in ${out}.`);
     say(summary(outcome.result));
