@@ -59,8 +59,10 @@ export async function dispatch(s: BenchSession, req: BridgeRequest): Promise<unk
     }
     case 'mixed': {
       if (s.state.phase !== 'running') throw new Refusal('mixed: time zero is set during a run; start one first.');
-      s.run.timeZero_s = s.run.runTimeNow();
-      s.record.event({ ev: 'mixed', t: s.run.deviceTimeNow(), wall: isoWithLocalOffset(new Date()) });
+      // One reading of the clock for both, so the record's time zero is the screen's to the last digit.
+      const at_s = s.run.runTimeNow();
+      s.run.timeZero_s = at_s;
+      s.record.event({ ev: 'mixed', t: s.run.origin_s === null ? null : at_s + s.run.origin_s, wall: isoWithLocalOffset(new Date()) });
       s.rebuildAnalyzer();
       return s.changed();
     }
