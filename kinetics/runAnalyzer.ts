@@ -73,6 +73,10 @@ const LAWS = { zero: zeroOrderLaw, first: firstOrderLaw, second: secondOrderLaw,
 /** The analyzer's own left-out warnings (rebuilt from the counts at every result). */
 const LEFT_OUT_WORDS = [/ reading\(s\) with time going backwards/, / reading\(s\) that were not numbers/, / saturated reading\(s\)/, / reading\(s\) outside /];
 
+/** The stopping target (half-lives) and precision (relative 95% CI half-width of k) when none is given. */
+export const DEFAULT_TARGET_HALF_LIVES = 3;
+export const DEFAULT_PRECISION = 0.05;
+
 export class RunAnalyzer implements RunAnalyzerLike {
   private time = new Float64Array(1024);
   private signal = new Float64Array(1024);
@@ -112,8 +116,8 @@ export class RunAnalyzer implements RunAnalyzerLike {
     // Options given as undefined take the default (a spread would let undefined win).
     this.opts = {
       ...options,
-      targetHalfLives: options.targetHalfLives ?? 3,
-      precision: options.precision ?? 0.05,
+      targetHalfLives: options.targetHalfLives ?? DEFAULT_TARGET_HALF_LIVES,
+      precision: options.precision ?? DEFAULT_PRECISION,
       weighted: options.weighted ?? (options.signal === undefined || options.signal.absorbance !== undefined),
       sigmaT: options.sigmaT ?? 0.001,
       robust: options.robust ?? true,

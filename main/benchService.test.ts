@@ -287,8 +287,10 @@ describe('bench service', () => {
     expect(b.readings.count).toBe(a.readings.count);
     expect(Array.from(b.readings.absorbance)).toEqual(Array.from(a.readings.absorbance));
     expect(b.header.instrument.source).toBe('replay');
-    // the simulated instrument's clock starts at mixing (t = 0), before its first reading
-    expect(a.events.find((p) => p.event.ev === 'mixed')!.event.t).toBe(0);
+    // the simulated instrument starts its reaction at its device time 0 and nobody pressed Mixed:
+    // the header says so and no `mixed` line was written on the user's behalf
+    expect(a.header.reactionStart_s).toBe(0);
+    expect(a.events.some((p) => p.event.ev === 'mixed')).toBe(false);
     expect(replayed.timeZero_s).toBe(-a.readings.t_s[0]!);
     expect(b.events.find((p) => p.event.ev === 'mixed')!.event.t).toBe(0); // the replay keeps the record's device clock
     await second.dispose();

@@ -8,7 +8,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Journal } from '../acquisition/record/journal';
-import { Recorder } from '../acquisition/record/recorder';
+import { RunSession } from '../acquisition/record/runSession';
 import { replayFromFile } from '../acquisition/files/replayFile';
 import { RunAnalyzer } from '../kinetics/runAnalyzer';
 import { DEMO_RUN, simulateRun } from '../kinetics/reactionModel';
@@ -52,7 +52,7 @@ async function replayThroughAnalyzer(file: string): Promise<{ result: Record<str
   const source = await replayFromFile(file, { speed: 'max' });
   const analyzer = new RunAnalyzer();
   const journal = Journal.create(join(dir, `copy-${Math.random().toString(36).slice(2)}.jsonl`), demoHeader(), { timer: false });
-  const recorder = new Recorder({ source, journal, analyzer });
+  const recorder = new RunSession({ source, journal, analyzer });
   await recorder.start();
   const outcome = await recorder.finished;
   // The command prints the final refit; JSON turns the result into what the command prints.

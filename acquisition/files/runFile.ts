@@ -8,6 +8,7 @@ import { parseRunCsv } from './runCsv';
 import { TextDecodingError, decodeUserText } from './textDecoding';
 import { runProblem } from './runPlausibility';
 import { RunRecordError, analysisReadings, parseRunRecord } from '../record/journalReader';
+import { recordFitSettings, type RecordedFitSettings } from '../record/recordTimeZero';
 import { looksLikeRunRecordLine, type RecordCalibration } from '../record/runRecordFormat';
 
 export interface LoadedRun {
@@ -16,6 +17,8 @@ export interface LoadedRun {
   source:
     | { path: string; format: 'csv'; delimiter: ',' | ';'; decimalComma: boolean }
     | { path: string; format: 'runRecord'; version: number; demo: boolean; calibration: RecordCalibration | null };
+  /** The fit window, target and precision a recorded run was stopped with (record version 2), or absent. */
+  fitSettings?: RecordedFitSettings;
   /** Something the user should be told about the file (a run record recovered after a crash), or absent. */
   notice?: string;
 }
@@ -83,6 +86,8 @@ function loadRunRecord(text: string, path: string): LoadedRun {
     absorbance: readings.absorbance,
     source: { path, format: 'runRecord', version: record.header.version, demo: record.header.demo, calibration: record.header.calibration },
   };
+  const settings = recordFitSettings(record.events);
+  if (settings) run.fitSettings = settings;
   if (record.recovery.message) run.notice = record.recovery.message;
   return run;
 }

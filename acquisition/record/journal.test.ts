@@ -140,8 +140,8 @@ describe('validation names the file and line', () => {
   it('refuses a line after the end line and a newer format version', () => {
     const after = [...good(), '[3,0.62,3000]'].join('\n') + '\n';
     expect(() => parseRunRecord(after, 'r.jsonl')).toThrow(/r\.jsonl line 7: a line after the end line/);
-    const newer = [JSON.stringify({ ...demoHeader(), version: 2 }), '[0,1,0]'].join('\n') + '\n';
-    expect(() => parseRunRecord(newer, 'r.jsonl')).toThrow(/format version 2, newer than this Rateline reads/);
+    const newer = [JSON.stringify({ ...demoHeader(), version: 3 }), '[0,1,0]'].join('\n') + '\n';
+    expect(() => parseRunRecord(newer, 'r.jsonl')).toThrow(/format version 3, newer than this Rateline reads/);
     expect(() => parseRunRecord('time_s,absorbance\n0,0.5\n', 'r.csv')).toThrow(/r\.csv line 1: not a run record/);
   });
 });

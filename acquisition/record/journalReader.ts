@@ -22,6 +22,7 @@ import {
   type RecordHeader,
   type RunEvent,
 } from './runRecordFormat';
+import { recordTimeZero } from './recordTimeZero';
 
 /** A record that cannot be read, with the file and line in its one-sentence message. */
 export class RunRecordError extends Error {
@@ -278,17 +279,19 @@ class ReadingColumns {
 }
 
 /**
- * The readings to analyse: readings from time zero (the first `mixed` event) on, with
- * time measured from it. Readings before mixing (the blank, the baseline) are kept in
- * the record but are not part of the kinetics. Without a `mixed` event, the device
- * times are used as they are.
+ * The readings to analyse: readings from time zero (recordTimeZero.ts: the last `mixed`
+ * event from version 2 on, the first in version 1) on, with time measured from it.
+ * Readings before mixing (the blank, the baseline) are kept in the record but are not
+ * part of the kinetics. Without a time zero, the device times are used as they are.
  */
 export function analysisReadings(record: RunRecord): { time_s: Float64Array; absorbance: Float64Array; timeZero_s: number | null; firstIndex: number } {
-  const mixed = record.events.find((p) => p.event.ev === 'mixed');
+  const zero = recordTimeZero(record.header, record.events);
   const r = record.readings;
-  if (!mixed) return { time_s: r.t_s.slice(), absorbance: r.absorbance.slice(), timeZero_s: null, firstIndex: 0 };
-  const t0 = mixed.event.t ?? (mixed.index < r.count ? r.t_s[mixed.index]! : 0);
-  let first = mixed.index;
+  if (zero.from === 'none') return { time_s: r.t_s.slice(), absorbance: r.absorbance.slice(), timeZero_s: null, firstIndex: 0 };
+  const t0 = zero.deviceTime_s ?? (zero.index < r.count ? r.t_s[zero.index]! : 0);
+  // Readings before time zero are skipped by time, not by position: a corrected (later)
+  // Mixed may name a time before readings that were recorded ahead of it.
+  let first = 0;
   while (first < r.count && r.t_s[first]! < t0) first++;
   const time_s = new Float64Array(r.count - first);
   for (let i = first; i < r.count; i++) time_s[i - first] = r.t_s[i]! - t0;

@@ -1,5 +1,5 @@
 /**
- * The run record, version 1: the shapes of its lines and their zod schemas. One
+ * The run record, version 2 (version 1 is still read): the shapes of its lines and their zod schemas. One
  * JSON value per line (JSON Lines): a header object first, then readings as short
  * arrays and events as objects keyed by `ev`, and an `end` object when the run was
  * closed cleanly. RUN_RECORD.md beside this file is the prose description; the two
@@ -9,7 +9,9 @@ import { z } from 'zod';
 import { SOURCE_STATUS_KINDS } from '../sources/sourceStatus';
 
 export const RUN_RECORD_FORMAT = 'rateline-run-record';
-export const RUN_RECORD_VERSION = 1;
+export const RUN_RECORD_VERSION = 2;
+/** Every version this program reads; version 1 differs in its time-zero rule only (see recordTimeZero.ts). */
+export const READABLE_RECORD_VERSIONS = [1, 2] as const;
 
 /** The column names of a reading array, in order (documented in the header too). */
 export const READING_COLUMNS = ['t_s', 'A', 'h_ms', 'flags', 'cellT_C', 'I_sample', 'I_dark'] as const;
@@ -71,7 +73,7 @@ export type RecordInstrument = z.infer<typeof instrumentSchema>;
 
 export const headerSchema = z.object({
   format: z.literal(RUN_RECORD_FORMAT),
-  version: z.literal(RUN_RECORD_VERSION),
+  version: z.union([z.literal(1), z.literal(2)]),
   started: isoWithOffset,
   program: z.object({ name: text, version: text }),
   run: runMetadataSchema,
@@ -79,6 +81,12 @@ export const headerSchema = z.object({
   instrument: instrumentSchema,
   columns: z.array(text),
   demo: z.boolean(),
+  /**
+   * Version 2: the device time at which the instrument itself started the reaction (the
+   * simulated instrument: 0), or null when only the user can say (Mixed). Time zero when
+   * the record has no `mixed` event.
+   */
+  reactionStart_s: optionalFinite.optional(),
 });
 export type RecordHeader = z.infer<typeof headerSchema>;
 
@@ -135,6 +143,15 @@ export const eventSchema = z.discriminatedUnion('ev', [
   }).refine((e) => e.wavelengths_nm.length === e.values.length, { message: 'wavelengths_nm and values must have one length' }),
   z.object({ ev: z.literal('status'), ...at, status: sourceStatusSchema }),
   z.object({ ev: z.literal('rejected'), ...at, counts: z.record(z.string(), z.number().int().min(0)) }),
+  /** Version 2: the fit window (run time, s), target and precision in force when the run stopped. */
+  z.object({
+    ev: z.literal('fitSettings'),
+    ...at,
+    from_s: optionalFinite,
+    to_s: optionalFinite,
+    targetHalfLives: finite,
+    precision: finite,
+  }),
   z.object({
     ev: z.literal('stop'),
     ...at,

@@ -10,7 +10,8 @@
  */
 import { performance } from 'node:perf_hooks';
 import type { PlacedEvent, RunRecord } from '../record/journalReader';
-import type { RunEvent } from '../record/runRecordFormat';
+import type { RecordHeader, RunEvent } from '../record/runRecordFormat';
+import { recordFitSettings, recordTimeZero, type RecordedFitSettings } from '../record/recordTimeZero';
 import type { Reading, ReadingSource, RejectCounts, SourceCommand, SourceEvent, SourceListener } from './sourceTypes';
 import { emptyRejectCounts } from './sourceStatus';
 
@@ -54,6 +55,8 @@ export interface ReplayTimeline {
   darkCounts?: Float64Array;
   wavelength_nm: number | null;
   events: PlacedEvent[];
+  /** The record's version and reaction start, for its time-zero rule (absent for plain readings). */
+  header?: Pick<RecordHeader, 'version' | 'reactionStart_s'>;
 }
 
 export function timelineFromRecord(record: RunRecord): ReplayTimeline {
@@ -67,6 +70,7 @@ export function timelineFromRecord(record: RunRecord): ReplayTimeline {
     darkCounts: r.darkCounts,
     wavelength_nm: record.header.run.wavelength_nm,
     events: record.events,
+    header: { version: record.header.version, reactionStart_s: record.header.reactionStart_s ?? null },
   };
 }
 
@@ -181,10 +185,17 @@ export class ReplaySource implements ReadingSource {
     return emptyRejectCounts();
   }
 
-  /** Device time of the record's time zero (its first `mixed` event), or null when it has none (a CSV run). */
+  /** Device time of the record's time zero (recordTimeZero.ts), or null when it has none (a CSV run). */
   get recordedTimeZero_s(): number | null {
-    for (const p of this.timeline.events) if (p.event.ev === 'mixed') return p.event.t;
-    return null;
+    if (!this.timeline.header) return null;
+    const zero = recordTimeZero(this.timeline.header, this.timeline.events);
+    if (zero.from === 'firstReading') return this.timeline.t_s.length > 0 ? this.timeline.t_s[0]! : null;
+    return zero.deviceTime_s;
+  }
+
+  /** The fit settings the record's run stopped with, or null (an older record, a CSV run). */
+  get recordedFitSettings(): RecordedFitSettings | null {
+    return recordFitSettings(this.timeline.events);
   }
 
   /** Readings handed out so far. */

@@ -4,7 +4,8 @@
  * tests can put small fakes in place of the serial port, the disk and the clock.
  * The real parts are wired in main/bench/benchWiring.ts.
  */
-import type { Reading, ReadingSource, SourceStatus, SpectrumFrame } from '../../acquisition/sources/sourceTypes';
+import type { Reading, ReadingSource, SourceEvent } from '../../acquisition/sources/sourceTypes';
+import type { RunEvent } from '../../acquisition/record/runRecordFormat';
 import type { AnalyzerOptions, RunAnalyzerLike } from '../../kinetics/analysisTypes';
 import type { SampleDetails, SourceChoice } from '../bridge/contract';
 
@@ -15,8 +16,10 @@ export interface RecordSink {
   reading(reading: Reading): void;
   /** Hand what is buffered to the operating system before a possibly long analysis step. */
   release(): void;
-  /** Event times `t` are device times (s), like the readings'; null when no reading has come yet. */
-  event(event: RecordEvent): void;
+  /** A source's event, as the one mapping (acquisition/record/recordLines.ts) writes it; `t` is the device time now. */
+  sourceEvent(event: SourceEvent, t: number | null): void;
+  /** The bench's own lines (Mixed, a mark, changed details, the fit settings); times `t` are device times (s). */
+  event(line: RecordLine): void;
   /**
    * Writes the stop and end lines and closes the file; every reading written before is kept.
    * After a failed write, closes the file as it is (no end line: the reader recovers it).
@@ -24,15 +27,8 @@ export interface RecordSink {
   close(stop: { reason: 'user' | 'sourceEnded' | 'error'; detail: string; rejected: Record<string, number> }): Promise<void>;
 }
 
-export type RecordEvent =
-  | { ev: 'blank'; t: number | null; detail: string; noise_AU?: number | null; drift_AUperMin?: number | null }
-  | { ev: 'mixed'; t: number | null }
-  | { ev: 'mark'; t: number | null; note: string }
-  | { ev: 'meta'; t: number | null; details: SampleDetails; wavelength_nm: number | null }
-  | { ev: 'warning'; t: number | null; message: string }
-  | { ev: 'gap'; t: number | null; from_ms: number; to_ms: number; reason: string }
-  | { ev: 'status'; t: number | null; status: SourceStatus }
-  | { ev: 'spectrum'; t: number | null; frame: SpectrumFrame; peak_nm: number | null };
+/** An event line without its host time, which the sink adds when it writes it. */
+export type RecordLine = RunEvent extends infer E ? (E extends RunEvent ? Omit<E, 'h'> : never) : never;
 
 export interface RecordOpening {
   /** Full path of the new record (inside the runs folder). */

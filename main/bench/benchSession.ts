@@ -36,6 +36,10 @@ export class BenchSession {
   /** A replayed record's time zero (device time), held until this run's clock has its origin. */
   pendingMixedDevice_s: number | null = null;
   replayPath: string | null = null;
+  /** Blank lines the source's events put into the record (a counts device's reference). */
+  blanksRecorded = 0;
+  /** Whether this run's first reading was looked at for an instrument already part-way through its run. */
+  lateStartChecked = true;
   lastRejected: { reason: keyof RejectCounts; line: string } | null = null;
   /** The request queue: each request, and each stop the service decides on, waits for the one before. */
   busy: Promise<unknown> = Promise.resolve();

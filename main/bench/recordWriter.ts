@@ -3,7 +3,8 @@
  * folder gone) is reported once, in one line, and the caller stops the run; what was
  * written before stays on disk and the reader recovers it.
  */
-import type { RecordEvent, RecordSink } from './benchDependencies';
+import type { RecordLine, RecordSink } from './benchDependencies';
+import type { SourceEvent } from '../../acquisition/sources/sourceTypes';
 import { oneLine } from './refusal';
 
 export class RecordWriter {
@@ -32,8 +33,12 @@ export class RecordWriter {
     }
   }
 
-  event(e: RecordEvent): void {
-    this.write((s) => s.event(e));
+  event(line: RecordLine): void {
+    this.write((s) => s.event(line));
+  }
+
+  sourceEvent(e: SourceEvent, t: number | null): void {
+    this.write((s) => s.sourceEvent(e, t));
   }
 
   /** Closes the record; resolves to its path, or null when none was open. `warn` gets a failed close. */

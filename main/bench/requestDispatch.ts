@@ -3,6 +3,8 @@
  * queue has come. A refusal the user can act on is thrown as a `Refusal`; the service
  * turns it, or any other failure, into a one-line reply.
  */
+import { isoWithLocalOffset } from '../../acquisition/record/runRecordFormat';
+import { runMetadata } from './journalSink';
 import { join } from 'node:path';
 import type { SpectrumFrame } from '../../acquisition/sources/sourceTypes';
 import { LIMITS, type BridgeRequest } from '../bridge/contract';
@@ -45,15 +47,20 @@ export async function dispatch(s: BenchSession, req: BridgeRequest): Promise<unk
       return s.changed();
     case 'findPeak': throw new Error('findPeak is answered outside the request queue');
     case 'takeBlank': {
+      const blanksBefore = s.blanksRecorded;
       await s.source.command({ type: 'takeBlank' }, 'take the blank');
       s.state.blankTaken = true;
-      s.record.event({ ev: 'blank', t: s.run.deviceTimeNow(), detail: 'blank taken' });
+      // A counts device sends its blank (with the reference) as a source event, which the
+      // record already holds; an absorbance device zeroes itself and only its word is left.
+      if (s.blanksRecorded === blanksBefore) {
+        s.record.event({ ev: 'blank', t: s.run.deviceTimeNow(), detail: 'blank taken on the instrument (it sends absorbance, so no reference counts)', noise_AU: null, drift_AUperMin: null });
+      }
       return s.changed();
     }
     case 'setWavelength':
       if (s.source.isOpen) await s.source.command({ type: 'setWavelength', wavelength_nm: req.wavelength_nm }, 'set the wavelength');
       s.state.wavelength_nm = req.wavelength_nm;
-      s.record.event({ ev: 'meta', t: s.run.deviceTimeNow(), details: s.state.sampleDetails, wavelength_nm: req.wavelength_nm });
+      s.record.event({ ev: 'meta', t: s.run.deviceTimeNow(), run: runMetadata(s.state.sampleDetails, req.wavelength_nm) });
       return s.changed();
     case 'start': await startRun(s); return s.changed();
     case 'stop':
@@ -67,14 +74,16 @@ export async function dispatch(s: BenchSession, req: BridgeRequest): Promise<unk
     }
     case 'mixed': {
       if (s.state.phase !== 'running') throw new Refusal('mixed: time zero is set during a run; start one first.');
-      s.run.timeZero_s = s.run.runTimeNow();
-      s.record.event({ ev: 'mixed', t: s.run.deviceTimeNow() });
+      // One reading of the clock for both, so the record's time zero is the screen's to the last digit.
+      const at_s = s.run.runTimeNow();
+      s.run.timeZero_s = at_s;
+      s.record.event({ ev: 'mixed', t: s.run.origin_s === null ? null : at_s + s.run.origin_s, wall: isoWithLocalOffset(new Date()) });
       s.rebuildAnalyzer();
       return s.changed();
     }
     case 'setSampleDetails':
       s.state.sampleDetails = { ...s.state.sampleDetails, ...req.details };
-      s.record.event({ ev: 'meta', t: s.run.deviceTimeNow(), details: s.state.sampleDetails, wavelength_nm: s.state.wavelength_nm });
+      s.record.event({ ev: 'meta', t: s.run.deviceTimeNow(), run: runMetadata(s.state.sampleDetails, s.state.wavelength_nm) });
       return s.changed();
     case 'setFitWindow':
       s.state.fitWindow = { ...req.window };

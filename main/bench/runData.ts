@@ -74,6 +74,17 @@ export class RunData {
     return this.analyzer ? this.analyzer.result() : null;
   }
 
+  /** The refit over every reading fed (the end of a run), or null when there is no analyzer or it fails. */
+  flushOrNull(): AnalysisResult | null {
+    try {
+      if (!this.analyzer) return null;
+      return this.analyzer.flush ? this.analyzer.flush() : this.analyzer.result();
+    } catch {
+      // The throttled analysis has reported the fault already; the record is unaffected.
+      return null;
+    }
+  }
+
   /** The result, or null when the analyzer fails: for a screen catching up or an export; the throttled analysis reports the fault. */
   resultOrNull(): AnalysisResult | null {
     try {

@@ -64,9 +64,12 @@ export async function startRun(s: BenchSession): Promise<void> {
   const started = new Date();
   const runId = newRunId(started);
   s.outbox.reset();
-  // The simulated instrument's clock starts at mixing; other sources' run clock starts at their first reading.
+  // The simulated instrument starts its reaction at its device time 0 (the header's
+  // reactionStart_s says so) until Mixed is pressed; other sources' run clock starts at
+  // their first reading, and time zero is their first reading until Mixed is pressed.
   const simulated = s.state.source.kind === 'simulated';
   s.run.reset(simulated ? 0 : null, simulated ? 0 : null);
+  s.lateStartChecked = s.state.source.kind !== 'serial';
   s.state.runId = runId;
   s.state.fitWindow = { from_s: null, to_s: null };
   const path = join(s.deps.dataDir, recordFileName(runId));
@@ -81,7 +84,6 @@ export async function startRun(s: BenchSession): Promise<void> {
   }
   s.state.recordPath = path;
   s.pendingMixedDevice_s = null;
-  if (simulated) s.record.event({ ev: 'mixed', t: 0 });
   s.rebuildAnalyzer();
   s.state.phase = 'running';
   s.emit({ type: 'record', path, status: 'open' });
@@ -92,6 +94,14 @@ export async function startRun(s: BenchSession): Promise<void> {
     } catch (err) {
       await stopRun(s, 'error', oneLine(err));
       throw new Refusal(`start: ${oneLine(err)}`);
+    }
+    // A replayed record keeps its time zero, and is fitted as its run was stopped: its window, target and precision.
+    s.pendingMixedDevice_s = s.source.recorded?.recordedTimeZero_s ?? null;
+    const settings = s.source.recorded?.recordedFitSettings;
+    if (settings) {
+      s.state.fitWindow = { from_s: settings.from_s, to_s: settings.to_s };
+      s.state.analysisOptions = { ...s.state.analysisOptions, targetHalfLives: settings.targetHalfLives, precision: settings.precision };
+      s.rebuildAnalyzer();
     }
   }
   try {
@@ -106,7 +116,18 @@ export async function stopRun(s: BenchSession, reason: BenchStopReason, detail: 
   if (s.state.phase !== 'running') return;
   s.state.phase = 'stopped';
   if (reason !== 'sourceEnded') await s.source.commandQuietly({ type: 'stop' });
+  // The final refit over every reading (the screen's last result, sent by the drain
+  // below), and the settings it was made with, so that `rateline analyze` of the record
+  // gives the numbers the screen shows at the end.
+  s.run.flushOrNull();
   s.outbox.drain();
+  if (s.state.runId) {
+    const w = s.state.fitWindow;
+    s.record.event({
+      ev: 'fitSettings', t: s.run.deviceTimeNow(), from_s: w.from_s, to_s: w.to_s,
+      targetHalfLives: s.state.analysisOptions.targetHalfLives, precision: s.state.analysisOptions.precision,
+    });
+  }
   const path = await s.record.close({ reason, detail, rejected: { ...s.state.rejected } }, (m) => s.warn(m));
   if (path) s.emit({ type: 'record', path, status: 'closed' });
   // The simulated instrument and a replay are made afresh for each run: nothing to keep open.

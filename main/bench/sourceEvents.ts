@@ -4,10 +4,10 @@
  * and into the record. A replayed record's own time zero and marks carry over into the
  * new record.
  */
-import type { RunEvent } from '../../acquisition/record/runRecordFormat';
+import { isoWithLocalOffset, type RunEvent } from '../../acquisition/record/runRecordFormat';
 import type { Reading, SourceEvent } from '../../acquisition/sources/sourceTypes';
-import { bandMaximum } from '../../kinetics/bandMaximum';
 import type { BenchSession } from './benchSession';
+import { lateStartWarning } from '../../acquisition/record/recordLines';
 import { emptyRejectCounts } from '../../acquisition/sources/sourceStatus';
 
 export function onSourceEvent(s: BenchSession, e: SourceEvent): void {
@@ -16,7 +16,7 @@ export function onSourceEvent(s: BenchSession, e: SourceEvent): void {
     case 'status':
       s.state.sourceStatus = e.status;
       s.emit({ type: 'sourceStatus', status: e.status });
-      s.record.event({ ev: 'status', t: s.run.deviceTimeNow(), status: e.status });
+      s.record.sourceEvent(e, s.run.deviceTimeNow());
       if (e.status.kind === 'ended' && s.state.phase === 'running') s.stopSoon('sourceEnded', e.status.detail);
       break;
     case 'rejected':
@@ -25,29 +25,24 @@ export function onSourceEvent(s: BenchSession, e: SourceEvent): void {
       s.outbox.otherChanged();
       break;
     case 'gap':
-      s.record.event({ ev: 'gap', t: s.run.deviceTimeNow(), from_ms: e.from_ms, to_ms: e.to_ms, reason: e.reason });
+      s.record.sourceEvent(e, s.run.deviceTimeNow());
       s.warn(`no readings for ${((e.to_ms - e.from_ms) / 1000).toFixed(1)} s (${e.reason}); the run goes on.`);
       break;
     case 'warning':
-      s.record.event({ ev: 'warning', t: s.run.deviceTimeNow(), message: e.message });
+      s.record.sourceEvent(e, s.run.deviceTimeNow());
       s.warn(e.message);
       break;
     case 'blank': {
-      const b = e.blank;
       s.state.blankTaken = true;
-      const noise = b.noise_AU === null ? '' : `, noise ${b.noise_AU.toExponential(1)} AU`;
-      s.record.event({ ev: 'blank', t: b.deviceTime_s, detail: `blank of ${b.points} readings at ${b.wavelength_nm} nm${noise}`, noise_AU: b.noise_AU, drift_AUperMin: b.drift_AUperMin });
-      for (const w of b.warnings) s.warn(w);
+      s.record.sourceEvent(e, s.run.deviceTimeNow());
+      s.blanksRecorded++;
+      for (const w of e.blank.warnings) s.warn(w);
       s.changed();
       break;
     }
     case 'spectrum': {
       const recorded = s.state.phase === 'running';
-      if (recorded) {
-        const f = e.frame;
-        const found = f.kind === 'absorbance' ? bandMaximum(f.wavelengths_nm, f.values) : null;
-        s.record.event({ ev: 'spectrum', t: f.deviceTime_s, frame: f, peak_nm: found?.ok && !found.atEdge ? found.wavelength_nm : null });
-      }
+      if (recorded) s.record.sourceEvent(e, s.run.deviceTimeNow());
       s.spectra.arrived(e.frame, recorded);
       break;
     }
@@ -56,10 +51,9 @@ export function onSourceEvent(s: BenchSession, e: SourceEvent): void {
 
 export function onRecordedEvent(s: BenchSession, e: RunEvent): void {
   if (s.state.phase !== 'running') return;
-  if (e.ev === 'mixed' && e.t !== null) {
-    s.pendingMixedDevice_s = e.t;
-    applyRecordedMixed(s);
-  } else if (e.ev === 'mark') {
+  // A replayed record's time zero (by its own version's rule) was taken when the run
+  // started (runLifecycle.ts), so its `mixed` lines do not carry over one by one.
+  if (e.ev === 'mark') {
     s.record.event({ ev: 'mark', t: e.t, note: e.note });
   }
 }
@@ -70,7 +64,7 @@ function applyRecordedMixed(s: BenchSession): void {
   if (s.pendingMixedDevice_s === null || origin === null) return;
   // May be negative: the record's mixing came before its first reading.
   s.run.timeZero_s = s.pendingMixedDevice_s - origin;
-  s.record.event({ ev: 'mixed', t: s.pendingMixedDevice_s });
+  s.record.event({ ev: 'mixed', t: s.pendingMixedDevice_s, wall: isoWithLocalOffset(new Date()) });
   s.pendingMixedDevice_s = null;
   s.rebuildAnalyzer();
   s.changed();
@@ -79,6 +73,14 @@ function applyRecordedMixed(s: BenchSession): void {
 function onReading(s: BenchSession, r: Reading): void {
   if (s.state.phase !== 'running' || !Number.isFinite(r.absorbance) || !Number.isFinite(r.deviceTime_s)) return;
   const first = s.run.origin_s === null;
+  if (!s.lateStartChecked) {
+    s.lateStartChecked = true;
+    const late = lateStartWarning(r.deviceTime_s);
+    if (late) {
+      s.record.event({ ev: 'warning', t: r.deviceTime_s, message: late });
+      s.warn(late);
+    }
+  }
   const t = s.run.place(r.deviceTime_s, r.absorbance, r.flags);
   if (first) applyRecordedMixed(s);
   s.record.write((rec) => rec.reading(r));

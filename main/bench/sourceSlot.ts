@@ -4,6 +4,7 @@
  * commands with a refusal the user can read when there is none or it says no.
  */
 import type { RunEvent } from '../../acquisition/record/runRecordFormat';
+import type { RecordedFitSettings } from '../../acquisition/record/recordTimeZero';
 import type { ReadingSource, SourceCommand, SourceEvent } from '../../acquisition/sources/sourceTypes';
 import { Refusal } from './refusal';
 import { listenToSource } from '../../acquisition/sources/replaySource';
@@ -14,6 +15,13 @@ export class SourceSlot {
 
   get isOpen(): boolean {
     return this.source !== null;
+  }
+
+  /** What a replayed record says of itself (its time zero, its fit settings), or null for a live source. */
+  get recorded(): { recordedTimeZero_s: number | null; recordedFitSettings: RecordedFitSettings | null } | null {
+    const s = this.source as Partial<{ recordedTimeZero_s: number | null; recordedFitSettings: RecordedFitSettings | null }> | null;
+    if (!s || !('recordedTimeZero_s' in s) || s.recordedTimeZero_s === undefined) return null;
+    return { recordedTimeZero_s: s.recordedTimeZero_s, recordedFitSettings: s.recordedFitSettings ?? null };
   }
 
   /** Creates, subscribes and opens a source; on failure nothing is left open and the error is rethrown. */

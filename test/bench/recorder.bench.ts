@@ -14,7 +14,7 @@ import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
 import { Journal } from '../../acquisition/record/journal';
 import { readRunRecord } from '../../acquisition/record/journalReader';
-import { Recorder } from '../../acquisition/record/recorder';
+import { RunSession } from '../../acquisition/record/runSession';
 import { ReplaySource, timelineFromRecord, timelineFromReadings } from '../../acquisition/sources/replaySource';
 import { RunAnalyzer } from '../../kinetics/runAnalyzer';
 import type { AnalysisResult, RunAnalyzerLike } from '../../kinetics/analysisTypes';
@@ -73,7 +73,7 @@ async function recorder(name: string, series: typeof run): Promise<{ perSecond: 
   const journal = Journal.create(path, demoHeader());
   const source = new ReplaySource(timelineFromReadings(series.time_s, series.absorbance, 630), { speed: 'max', batch: 8192 });
   const analyzer = new AnalysisLeftOut();
-  const rec = new Recorder({ source, journal, analyzer, wavelength_nm: 630 });
+  const rec = new RunSession({ source, journal, analyzer, wavelength_nm: 630 });
   const start = performance.now();
   await rec.start();
   const outcome = await rec.finished;

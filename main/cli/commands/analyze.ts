@@ -4,6 +4,7 @@
  * arrive at the bench) and prints the final result, in absorbance or, with a calibration,
  * in concentration (calibratedSignal.ts). Exit 0 done, 2 bad input.
  */
+import { fitSettingsToApply } from '../../../acquisition/record/recordTimeZero';
 import { InputError } from '../common/cliErrors';
 import { parseCommandArguments } from '../common/arguments';
 import { formatAnalysisText } from '../common/analyzeReport';
@@ -52,18 +53,22 @@ export async function run(argv: string[]): Promise<number> {
   }
   const file = args.positionals[0]!;
   const format = args.choice('format', ['text', 'json'], 'text');
-  const targetHalfLives = args.number('half-lives', halfLivesCheck, HALF_LIVES_WORDS);
-  const precision = args.number('precision', (x) => x > 0 && x < 1, 'a fraction between 0 and 1 (e.g. 0.05)');
-  const from_s = args.number('from', withinAnyRun, TIME_WORDS);
-  const to_s = args.number('to', withinAnyRun, TIME_WORDS);
+  const given = {
+    targetHalfLives: args.number('half-lives', halfLivesCheck, HALF_LIVES_WORDS),
+    precision: args.number('precision', (x) => x > 0 && x < 1, 'a fraction between 0 and 1 (e.g. 0.05)'),
+    from_s: args.number('from', withinAnyRun, TIME_WORDS),
+    to_s: args.number('to', withinAnyRun, TIME_WORDS),
+  };
   const fixedAInf = args.number('a-inf', (x) => x > -1 && x < 5, 'an absorbance between -1 and 5');
   const sigmaT = args.number('noise-t', (x) => x > 0 && x < 0.5, 'a transmittance noise between 0 and 0.5 (e.g. 0.001)');
   const weights = args.choice('weights', ['noise', 'none'], 'noise');
   const robust = args.choice('robust', ['on', 'off'], 'on');
-  if (from_s !== undefined && to_s !== undefined && !(to_s > from_s)) {
-    throw new InputError(`rateline analyze: the fit window --from ${from_s} --to ${to_s} is empty; --to must be later than --from.`);
+  if (given.from_s !== undefined && given.to_s !== undefined && !(given.to_s > given.from_s)) {
+    throw new InputError(`rateline analyze: the fit window --from ${given.from_s} --to ${given.to_s} is empty; --to must be later than --from.`);
   }
   const loaded = await loadRun(file);
+  // A record says which window, target and precision its run stopped with; the command line overrides them.
+  const { targetHalfLives, precision, from_s, to_s } = fitSettingsToApply(loaded.fitSettings ?? null, given);
   const { time_s, absorbance } = loaded;
   const calibration = await resolveCalibration(args.value('calibration'), loaded);
   // A record that was cut off (a crash, a pulled plug) is analysed as recovered; say so

@@ -10,6 +10,7 @@
  * per run analysed elsewhere: concentration or temperature, k, k_se) may stand in for run
  * files. Exit 0 done, 2 bad input.
  */
+import { fitSettingsToApply, recordFitSettings, type RecordedFitSettings } from '../../../acquisition/record/recordTimeZero';
 import { readUserText } from '../../../acquisition/files/runFile';
 import { extname, resolve } from 'node:path';
 import { PLAUSIBLE_WORDS, plausible } from '../common/benchRanges';
@@ -151,14 +152,15 @@ interface RunFit { k: number; se: number; note?: string; a0: number | null; aInf
  * for another order; a run left undecided while first order fits best (most often a
  * chance rejection by the runs test, about one good run in twenty) is kept, with a note.
  */
-function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string): RunFit | { reason: string } {
+function analyseRun(time_s: Float64Array, absorbance: Float64Array, file: string, settings: RecordedFitSettings | null = null): RunFit | { reason: string } {
   if (time_s.length < MIN_POINTS_TO_ESTIMATE) {
     throw new InputError(`${file}: only ${time_s.length} reading(s); a fit needs at least ${MIN_POINTS_TO_ESTIMATE}. Record a longer run or leave this file out.`);
   }
   // The same checks of a run as a whole as rateline analyze makes (times that advance, a swapped blank).
   const problem = runProblem(time_s, absorbance, file);
   if (problem) throw new InputError(problem);
-  const analyzer = new RunAnalyzer();
+  // A recorded run is fitted as it was stopped: its window, target and precision.
+  const analyzer = new RunAnalyzer(fitSettingsToApply(settings));
   for (let i = 0; i < time_s.length; i++) analyzer.add(time_s[i]!, absorbance[i]!);
   const r = analyzer.flush();
   const first = r.models.first;
@@ -255,8 +257,8 @@ export async function combineRuns(argv: string[], io: CombineOutput): Promise<nu
   const leftOut: LeftOutRun[] = [];
   const details = new Map<string, RunDetails>();
   const saved: SavedRun[] = [];
-  const keep = (file: string, x: number, xFrom: CombinedRun['xFrom'], conditions: RunConditions, t: Float64Array, a: Float64Array) => {
-    const fit = analyseRun(t, a, file);
+  const keep = (file: string, x: number, xFrom: CombinedRun['xFrom'], conditions: RunConditions, t: Float64Array, a: Float64Array, settings: RecordedFitSettings | null = null) => {
+    const fit = analyseRun(t, a, file, settings);
     if ('reason' in fit) { leftOut.push({ label: file, reason: fit.reason }); saved.push({ file, conditions, included: false, leftOutReason: fit.reason }); return; }
     if (fit.note) io.error(`rateline combine: note: ${file}: ${fit.note}.`);
     runs.push({ label: file, x, xFrom, k_perSecond: fit.k, kStdErr_perSecond: fit.se });
@@ -278,7 +280,7 @@ export async function combineRuns(argv: string[], io: CombineOutput): Promise<nu
       const meta = finalRunMetadata(record);
       const conditions: RunConditions = studyRun ? studyRun.conditions : withX({ concentrations: recordConcentrations(record), temperature_C: meta.temperature_C }, by, x, reagent);
       const readings = analysisReadings(record);
-      keep(file, x, studyRun ? 'study' : option ? 'option' : 'header', conditions, readings.time_s, readings.absorbance);
+      keep(file, x, studyRun ? 'study' : option ? 'option' : 'header', conditions, readings.time_s, readings.absorbance, recordFitSettings(record.events));
       continue;
     }
     const read = readHeader(text, file, 'the columns time_s and absorbance (a run) or k and its x value (a summary of runs)');

@@ -4,6 +4,7 @@
  * our annotated CSV (the same writer as the screen's export). The readings are those
  * the analysis uses (from time zero on); the fit's summary goes along as notes.
  */
+import { fitSettingsToApply } from '../../../acquisition/record/recordTimeZero';
 import { existsSync } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { basename } from 'node:path';
@@ -57,7 +58,8 @@ export async function run(argv: string[]): Promise<number> {
   const loaded = await loadRun(file);
   if (loaded.notice) console.error(loaded.notice);
   const details = await runDetails(file, loaded.source.format === 'runRecord');
-  const analyzer = new RunAnalyzer();
+  // The fit as the recorded run was stopped: its window, target and precision.
+  const analyzer = new RunAnalyzer(fitSettingsToApply(loaded.fitSettings ?? null));
   for (let i = 0; i < loaded.time_s.length; i++) analyzer.add(loaded.time_s[i]!, loaded.absorbance[i]!);
   const result = loaded.time_s.length >= 10 ? analyzer.flush() : null;
 

@@ -9,10 +9,10 @@ import { RunAnalyzer } from '../../../kinetics/runAnalyzer';
 import { DEMO_RUN } from '../../../kinetics/reactionModel';
 import type { AnalysisResult } from '../../../kinetics/analysisTypes';
 import { Journal, JournalError } from '../../../acquisition/record/journal';
-import { Recorder, type RecorderOutcome, type TimeZero } from '../../../acquisition/record/recorder';
+import { RunSession, type RunSessionOutcome, type TimeZero } from '../../../acquisition/record/runSession';
+import { buildRecordHeader } from '../../../acquisition/record/recordHeader';
 import {
-  READING_COLUMNS, RUN_RECORD_FORMAT, RUN_RECORD_VERSION, emptyRunMetadata, isoWithLocalOffset,
-  type RecordHeader, type RunMetadata,
+  emptyRunMetadata, type RecordHeader, type RunMetadata,
 } from '../../../acquisition/record/runRecordFormat';
 import type { ReadingSource } from '../../../acquisition/sources/sourceTypes';
 import { SimulatedSource } from '../../../acquisition/sources/simulatedSource';
@@ -150,8 +150,8 @@ export async function run(argv: string[]): Promise<number> {
     const settings = defaultInstrumentSettings(DEMO_RUN, { seed, sends });
     source = new SimulatedSource({ instrument: settings, speed });
     instrument.identity = settings.identity;
-    // The simulated instrument's clock starts at mixing: its device time 0 is time zero.
-    timeZero = { deviceTime_s: 0 };
+    // The simulated instrument starts the reaction itself at its device time 0: the header says so.
+    timeZero = { reactionStart_s: 0 };
   } else {
     if (plain) {
       // A plain instrument cannot say who it is: the header says how its lines are read instead.
@@ -163,19 +163,13 @@ export async function run(argv: string[]): Promise<number> {
     timeZero = 'firstReading';
   }
 
-  const header: RecordHeader = {
-    format: RUN_RECORD_FORMAT,
-    version: RUN_RECORD_VERSION,
-    started: isoWithLocalOffset(new Date()),
-    program: { ...PROGRAM },
-    run,
+  const header = buildRecordHeader({
+    started: new Date(), program: PROGRAM, run,
     // The whole calibration file: the record's calibration shape (label, signal, slope,
-    // intercept) with its range and uncertainty as further fields, which version 1 allows.
-    calibration,
-    instrument,
-    columns: [...READING_COLUMNS],
-    demo: simulate,
-  };
+    // intercept) with its range and uncertainty as further fields, which the format allows.
+    calibration, instrument, demo: simulate,
+    reactionStart_s: typeof timeZero === 'object' && 'reactionStart_s' in timeZero ? timeZero.reactionStart_s : null,
+  });
   let journal: Journal;
   try {
     journal = Journal.create(out, header);
@@ -184,12 +178,14 @@ export async function run(argv: string[]): Promise<number> {
     if (err instanceof JournalError) throw new InputError(`rateline record: ${err.message}`);
     throw err;
   }
-  const analyzer = new RunAnalyzer({
+  const analyzerOptions = {
     ...(halfLives !== undefined ? { targetHalfLives: halfLives } : {}),
     ...(precision !== undefined ? { precision } : {}),
-  });
-  const recorder = new Recorder({
-    source, journal, analyzer, timeZero, wavelength_nm: run.wavelength_nm, identity: instrument.identity,
+  };
+  const analyzer = new RunAnalyzer(analyzerOptions);
+  const recorder = new RunSession({
+    source, journal, analyzer, analyzerOptions, createAnalyzer: (o) => new RunAnalyzer(o),
+    timeZero, wavelength_nm: run.wavelength_nm, identity: instrument.identity, warnLateStart: !simulate,
     ...(maxSeconds !== undefined ? { maxRunSeconds: maxSeconds } : {}),
     ...(args.flag('until-advice') ? { untilAdvice: true } : {}),
   });
@@ -212,7 +208,7 @@ export async function run(argv: string[]): Promise<number> {
     }
   };
   const ticker = setInterval(printProgress, progressMs);
-  let outcome: RecorderOutcome;
+  let outcome: RunSessionOutcome;
   try {
     await recorder.start();
     // Said once the instrument is open: a port that will not open gets its one sentence, and no "recording".
@@ -230,7 +226,7 @@ export async function run(argv: string[]): Promise<number> {
   return finish(out, outcome, progressMode, say);
 }
 
-function finish(out: string, outcome: RecorderOutcome, mode: 'text' | 'json', say: (l: string) => void): number {
+function finish(out: string, outcome: RunSessionOutcome, mode: 'text' | 'json', say: (l: string) => void): number {
   if (outcome.reason === 'error') {
     if (outcome.readings === 0 && outcome.error === null) {
       // Nothing was measured: the file holds only the header and the failure, so it is removed
@@ -247,7 +243,9 @@ function finish(out: string, outcome: RecorderOutcome, mode: 'text' | 'json', sa
     return EXIT_BAD_INPUT;
   }
   if (mode === 'json') {
-    say(JSON.stringify({ stopped: outcome.reason, detail: outcome.detail, readings: outcome.readings, record: out }));
+    // The final refit (the same numbers rateline analyze gives of the record), non-finite numbers as null like analyze's JSON.
+    say(JSON.stringify({ stopped: outcome.reason, detail: outcome.detail, readings: outcome.readings, record: out, result: outcome.result },
+      (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v)));
   } else {
     say(`rateline record: stopped (${describeStop(outcome)}); ${outcome.readings} readings in ${out}.`);
     say(summary(outcome.result));
@@ -255,7 +253,7 @@ function finish(out: string, outcome: RecorderOutcome, mode: 'text' | 'json', sa
   return EXIT_OK;
 }
 
-function describeStop(o: RecorderOutcome): string {
+function describeStop(o: RunSessionOutcome): string {
   switch (o.reason) {
     case 'user': return 'Ctrl-C';
     case 'signal': return 'SIGTERM';

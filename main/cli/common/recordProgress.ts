@@ -3,10 +3,10 @@
  * script (the crash test reads it: the count and device time handed to the journal).
  */
 import type { AnalysisResult } from '../../../kinetics/analysisTypes';
-import type { RecorderProgress } from '../../../acquisition/record/recorder';
+import type { RunSessionProgress } from '../../../acquisition/record/runSession';
 
 export interface ProgressJson {
-  phase: RecorderProgress['phase'];
+  phase: RunSessionProgress['phase'];
   /** Readings handed to the journal, and the device time of the last. */
   journalled: number;
   deviceTime_s: number | null;
@@ -27,7 +27,7 @@ export interface ProgressJson {
   warnings: number;
 }
 
-export function progressJson(p: RecorderProgress, r: AnalysisResult): ProgressJson {
+export function progressJson(p: RunSessionProgress, r: AnalysisResult): ProgressJson {
   const m = r.models[r.drivingModel];
   return {
     phase: p.phase,
@@ -51,7 +51,7 @@ export function progressJson(p: RecorderProgress, r: AnalysisResult): ProgressJs
 }
 
 /** One line: points, run time, half-lives elapsed, k ± its 95% CI half-width, and the advice in words. */
-export function formatProgress(p: RecorderProgress, r: AnalysisResult): string {
+export function formatProgress(p: RunSessionProgress, r: AnalysisResult): string {
   if (p.phase === 'opening') return 'opening the instrument…';
   if (p.phase === 'blank') return 'taking the blank (keep the blank cuvette in)…';
   if (p.phase === 'waitingForTimeZero') return `${p.journalled} readings before mixing`;

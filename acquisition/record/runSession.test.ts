@@ -8,7 +8,12 @@ import { demoHeader } from '../../test/fixtures/demoRecordHeader';
 import { Journal, type JournalFs } from './journal';
 import { memoryJournalFs } from '../../test/fixtures/memoryJournalFs';
 import { analysisReadings, parseRunRecord, readRunRecord } from './journalReader';
-import { Recorder } from './recorder';
+import { RunSession } from './runSession';
+import { recordLineFor } from './recordLines';
+import { fitSettingsToApply, recordFitSettings } from './recordTimeZero';
+import type { AnalysisResult } from '../../kinetics/analysisTypes';
+import type { ReadingSource, SourceEvent, SourceListener } from '../sources/sourceTypes';
+import { emptyRejectCounts } from '../sources/sourceStatus';
 import { ReplaySource, timelineFromRecord, timelineFromReadings } from '../sources/replaySource';
 import { SimulatedSource } from '../sources/simulatedSource';
 import { defaultInstrumentSettings } from '../sources/simulatedInstrument';
@@ -44,7 +49,7 @@ describe('recorder', () => {
   it('journals every reading, analyses from time zero on, and closes the record when the source ends', async () => {
     const journal = newRecord('copy.jsonl');
     const analyzer = new RunAnalyzer();
-    const recorder = new Recorder({ source: demoSource(), journal, analyzer, wavelength_nm: 630 });
+    const recorder = new RunSession({ source: demoSource(), journal, analyzer, wavelength_nm: 630 });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('sourceEnded');
@@ -77,7 +82,7 @@ describe('recorder', () => {
 
   it('stops at the run-time limit', async () => {
     const journal = newRecord('limit.jsonl');
-    const recorder = new Recorder({ source: demoSource(300, false), journal, analyzer: new RunAnalyzer(), maxRunSeconds: 120 });
+    const recorder = new RunSession({ source: demoSource(300, false), journal, analyzer: new RunAnalyzer(), maxRunSeconds: 120 });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('limit');
@@ -90,7 +95,7 @@ describe('recorder', () => {
   it('stops when the advice says so, not before it holds', async () => {
     const journal = newRecord('advice.jsonl');
     const analyzer = new RunAnalyzer();
-    const recorder = new Recorder({ source: demoSource(1500, false), journal, analyzer, untilAdvice: true });
+    const recorder = new RunSession({ source: demoSource(1500, false), journal, analyzer, untilAdvice: true });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('advice');
@@ -105,7 +110,7 @@ describe('recorder', () => {
   it('waits for a manual time zero and analyses nothing before it', async () => {
     const journal = newRecord('manual.jsonl');
     const analyzer = new RunAnalyzer();
-    const recorder = new Recorder({ source: demoSource(60, false), journal, analyzer, timeZero: 'manual' });
+    const recorder = new RunSession({ source: demoSource(60, false), journal, analyzer, timeZero: 'manual' });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(analyzer.count).toBe(0);
@@ -121,7 +126,7 @@ describe('recorder', () => {
     source.on((e) => {
       if (e.type === 'reading' && ++readings === 100) fs.failWrites = 'ENOSPC';
     });
-    const recorder = new Recorder({ source, journal, analyzer: new RunAnalyzer() });
+    const recorder = new RunSession({ source, journal, analyzer: new RunAnalyzer() });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('error');
@@ -137,7 +142,7 @@ describe('recorder', () => {
     const journal = newRecord('counts.jsonl');
     const analyzer = new RunAnalyzer();
     const source = new SimulatedSource({ instrument: defaultInstrumentSettings(DEMO_RUN, { sends: 'counts', seed: 4 }), speed: 'max' });
-    const recorder = new Recorder({ source, journal, analyzer, timeZero: { deviceTime_s: 0 }, maxRunSeconds: 400 });
+    const recorder = new RunSession({ source, journal, analyzer, timeZero: { deviceTime_s: 0 }, maxRunSeconds: 400 });
     await recorder.start();
     expect(recorder.progress().phase).toBe('blank'); // the device said it sends counts: blank asked for
     const outcome = await recorder.finished;
@@ -170,7 +175,7 @@ describe('recorder', () => {
       },
       result: () => real.result(),
     };
-    const recorder = new Recorder({ source: demoSource(200, false), journal, analyzer: failing, untilAdvice: true });
+    const recorder = new RunSession({ source: demoSource(200, false), journal, analyzer: failing, untilAdvice: true });
     await recorder.start();
     const outcome = await recorder.finished;
     expect(outcome.reason).toBe('sourceEnded');
@@ -180,5 +185,108 @@ describe('recorder', () => {
     const warning = rec.events.find((e) => e.event.ev === 'warning')!.event as { message: string };
     expect(warning.message).toMatch(/^the analysis failed at 49 s \(injected fault\); recording goes on/);
     expect(real.count).toBe(49);
+  });
+});
+
+/** A source these tests drive by hand: each reading goes out when the test says so. */
+function handSource(): ReadingSource & { send(e: SourceEvent): void; reading(t: number, a: number): void } {
+  const listeners = new Set<SourceListener>();
+  const send = (e: SourceEvent): void => { for (const l of listeners) l(e); };
+  return {
+    kind: 'serial',
+    on(l) { listeners.add(l); return () => listeners.delete(l); },
+    async open() { send({ type: 'status', status: { kind: 'connected', detail: 'hand source' } }); },
+    async command() { return { ok: true }; },
+    async close() { /* nothing held */ },
+    rejectedCounts: () => emptyRejectCounts(),
+    send,
+    reading(t, a) { send({ type: 'reading', reading: { deviceTime_s: t, hostTime_ms: 0, absorbance: a, wavelength_nm: 630, cellTemperature_C: null, flags: 0 } }); },
+  };
+}
+
+/** What `rateline analyze` does with a record: its readings from time zero, its stop settings, one flushed fit. */
+function analyseRecord(path: string): AnalysisResult {
+  const rec = readRunRecord(path);
+  const s = analysisReadings(rec);
+  const an = new RunAnalyzer(fitSettingsToApply(recordFitSettings(rec.events)));
+  for (let i = 0; i < s.time_s.length; i++) an.add(s.time_s[i]!, s.absorbance[i]!);
+  return an.flush();
+}
+
+describe('run session', () => {
+  it('moves time zero to the last Mixed, refits over the kept readings, and ends with the numbers analyze gives of its record', async () => {
+    const run = simulateRun({ ...DEMO_RUN, duration_s: 700 });
+    const journal = newRecord('session.jsonl');
+    const source = handSource();
+    const session = new RunSession({
+      source, journal, analyzer: new RunAnalyzer(), createAnalyzer: (o) => new RunAnalyzer(o), timeZero: 'manual',
+    });
+    await session.start();
+    // 20 s of baseline, then Mixed pressed at 20 s and pressed again (a correction) at 25 s.
+    for (let i = 0; i < 20; i++) source.reading(i, 0.65);
+    session.markMixed();
+    for (let i = 0; i < 5; i++) source.reading(20 + i, run.absorbance[0]!);
+    session.markMixed();
+    for (let i = 0; i < run.time_s.length; i++) source.reading(25 + run.time_s[i]! + 1, run.absorbance[i]!);
+    session.setFitWindow({ from_s: 10, to_s: null });
+    const outcome = await session.stop('user', 'stopped by the user');
+
+    const rec = readRunRecord(journal.path);
+    expect(rec.events.filter((p) => p.event.ev === 'mixed').map((p) => p.event.t)).toEqual([19, 24]);
+    expect(analysisReadings(rec).timeZero_s).toBe(24);
+    const settings = rec.events.find((p) => p.event.ev === 'fitSettings')!.event;
+    expect(settings).toMatchObject({ from_s: 10, to_s: null, targetHalfLives: 3, precision: 0.05 });
+    // The session's final result and analyze of its record agree to the last digit.
+    const fromRecord = analyseRecord(journal.path);
+    expect(outcome.result!.models.first.k).toBe(fromRecord.models.first.k);
+    expect(outcome.result!.models.first.kCI95).toEqual(fromRecord.models.first.kCI95);
+    expect(outcome.result!.halfLivesElapsed).toBe(fromRecord.halfLivesElapsed);
+    expect(outcome.result!.pointsInWindow).toBe(fromRecord.pointsInWindow);
+    expect(outcome.result!.window).toEqual({ from_s: 10, to_s: null });
+    // DEMO.md (invented data): k_obs = 3.5 × 10⁻³ s⁻¹ at 25 °C, 0.010 M hypochlorite.
+    expect(Math.abs(fromRecord.models.first.k! - 3.5e-3)).toBeLessThan(1.5e-4);
+    // Negative control: the first-wins rule (time zero 19 s) with no window is not the same fit.
+    const wrong = new RunAnalyzer();
+    for (let i = 0; i < rec.readings.count; i++) if (rec.readings.t_s[i]! >= 19) wrong.add(rec.readings.t_s[i]! - 19, rec.readings.absorbance[i]!);
+    expect(wrong.flush().pointsInWindow).not.toBe(fromRecord.pointsInWindow);
+  });
+
+  it('without a final refit the last scheduled result lags the record (negative control for the flush at stop)', () => {
+    // Refits come on a schedule set by the reading count, so a run can end between two refits.
+    const differs = [701, 903, 1107].some((duration_s) => {
+      const run = simulateRun({ ...DEMO_RUN, duration_s });
+      const stale = new RunAnalyzer();
+      const fresh = new RunAnalyzer();
+      for (let i = 0; i < run.time_s.length; i++) {
+        stale.add(run.time_s[i]!, run.absorbance[i]!);
+        fresh.add(run.time_s[i]!, run.absorbance[i]!);
+      }
+      return stale.result().models.first.k !== fresh.flush().models.first.k;
+    });
+    expect(differs).toBe(true);
+  });
+
+  it('warns, in the record and in its progress, when the instrument was part-way through its run at the first reading', async () => {
+    const journal = newRecord('late.jsonl');
+    const source = handSource();
+    const session = new RunSession({ source, journal, analyzer: new RunAnalyzer(), warnLateStart: true });
+    await session.start();
+    for (let i = 0; i < 30; i++) source.reading(312 + i, 0.4 - 0.001 * i);
+    expect(session.progress().lastWarning).toMatch(/clock read 312 s at the first reading, so it was part-way through a run/);
+    await session.stop('user', 'done');
+    const warnings = readRunRecord(journal.path).events.filter((p) => p.event.ev === 'warning');
+    expect(warnings).toHaveLength(1);
+    // Negative control: an instrument whose clock starts with the run (first reading at 1 s) gets no warning.
+    const quiet = new RunSession({ source: handSource(), journal: newRecord('early.jsonl'), analyzer: new RunAnalyzer(), warnLateStart: true });
+    await quiet.start();
+    expect(quiet.progress().lastWarning).toBeNull();
+  });
+
+  it('writes a counts device’s blank with its reference through the one line mapping', () => {
+    const line = recordLineFor(
+      { type: 'blank', blank: { deviceTime_s: 3, points: 5, wavelength_nm: 630, netBlank_counts: 41000, dark_counts: 900, noise_AU: 2e-4, drift_AUperMin: null, warmedUp: null, warnings: [] } },
+      { h: 10, t: 3, hostOffset_ms: (ms) => ms },
+    );
+    expect(line).toMatchObject({ ev: 'blank', t: 3, reference: { net_counts: 41000, dark_counts: 900, points: 5, wavelength_nm: 630 } });
   });
 });

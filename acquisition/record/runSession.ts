@@ -1,33 +1,44 @@
 /**
- * The recorder: one source feeding the journal and the streaming analyzer. Host-agnostic
- * (no console, no signals, no Electron), so that `rateline record` and the desktop
- * app's bench service can both drive it.
+ * The run session: one source feeding the journal and the streaming analyzer, from the
+ * blank to the closed record. Host-agnostic (no console, no signals, no Electron):
+ * `rateline record` drives it; record lines come from recordLines.ts and the header from
+ * recordHeader.ts, the one place for each.
  *
  * Order of a run: the source opens; a device that sends raw counts is asked for a blank
  * first (absorbance needs the blank reference I₀); then time zero (`mixed`) is written,
  * and from it on every reading goes to the journal and, with its time measured from
  * time zero, to the analyzer. Every reading is journalled before it is analysed, so a
- * fault in the analysis can never lose a measurement.
+ * fault in the analysis can never lose a measurement. Every reading is also kept, so a
+ * later Mixed (the last one sets time zero) or a new fit window rebuilds the analyzer
+ * over all of them. At the stop the analyzer refits over everything (`flush`), and the
+ * fit settings in force go into the record, so `rateline analyze` of the record gives
+ * the session's final numbers.
  */
 import { performance } from 'node:perf_hooks';
-import type { AnalysisResult, RunAnalyzerLike } from '../../kinetics/analysisTypes';
+import type { AnalysisResult, AnalyzerOptions, RunAnalyzerLike } from '../../kinetics/analysisTypes';
 import { JournalError, type Journal } from './journal';
 import { isoWithLocalOffset, type RunEvent } from './runRecordFormat';
-import type { RecorderOptions, RecorderOutcome, RecorderProgress, StopReason, TimeZero } from './recorderTypes';
+import { DEFAULT_PRECISION } from '../../kinetics/runAnalyzer';
+import { lateStartWarning, recordLineFor } from './recordLines';
+import type { RunSessionOptions, RunSessionOutcome, RunSessionProgress, StopReason, TimeZero } from './runSessionTypes';
 import type { DeviceIdentity, RejectCounts, Reading, ReadingSource, SourceEvent, SourceStatus } from '../sources/sourceTypes';
 import { emptyRejectCounts } from '../sources/sourceStatus';
 import { listenToSource } from '../sources/replaySource';
 
-export type { RecorderOptions, RecorderOutcome, RecorderProgress, StopReason, TimeZero } from './recorderTypes';
+export type { RunSessionOptions, RunSessionOutcome, RunSessionProgress, StopReason, TimeZero } from './runSessionTypes';
 
-export class Recorder {
+export class RunSession {
   private readonly source: ReadingSource;
   private readonly journal: Journal;
-  private readonly analyzer: RunAnalyzerLike;
+  private analyzer: RunAnalyzerLike;
+  /** Every reading analysed or waiting for time zero: device time and absorbance, for rebuilds. */
+  private readonly kept: { t: number[]; a: number[] } = { t: [], a: [] };
+  private analyzerOptions: AnalyzerOptions;
+  private firstReadingSeen = false;
   private readonly now: () => number;
   private readonly wallClock: () => Date;
-  private readonly opts: RecorderOptions;
-  private phase: RecorderProgress['phase'] = 'opening';
+  private readonly opts: RunSessionOptions;
+  private phase: RunSessionProgress['phase'] = 'opening';
   private timeZero_s: number | null = null;
   private lastT: number | null = null;
   private runTime_s: number | null = null;
@@ -44,16 +55,17 @@ export class Recorder {
   private analysisFault: string | null = null;
   private unsubscribe: Array<() => void> = [];
   private blankTimer: ReturnType<typeof setTimeout> | null = null;
-  private stopping: Promise<RecorderOutcome> | null = null;
-  private resolveFinished!: (o: RecorderOutcome) => void;
+  private stopping: Promise<RunSessionOutcome> | null = null;
+  private resolveFinished!: (o: RunSessionOutcome) => void;
   /** Resolves once the recording has stopped and the record is closed. */
-  readonly finished: Promise<RecorderOutcome>;
+  readonly finished: Promise<RunSessionOutcome>;
 
-  constructor(options: RecorderOptions) {
+  constructor(options: RunSessionOptions) {
     this.opts = options;
     this.source = options.source;
     this.journal = options.journal;
     this.analyzer = options.analyzer;
+    this.analyzerOptions = { ...(options.analyzerOptions ?? {}) };
     this.now = options.now_ms ?? (() => performance.now());
     this.wallClock = options.wallClock ?? (() => new Date());
     this.wavelength_nm = options.wavelength_nm ?? null;
@@ -77,10 +89,34 @@ export class Recorder {
     if (this.phase === 'opening') this.phase = this.opts.timeZero === 'manual' ? 'waitingForTimeZero' : 'recording';
   }
 
-  /** Time zero now (the reagents were just mixed): for `timeZero: 'manual'`. */
+  /**
+   * Time zero now (the reagents were just mixed). A later press corrects an earlier one:
+   * the last `mixed` sets time zero, and the analyzer is rebuilt over the kept readings.
+   */
   markMixed(): void {
-    if (this.timeZero_s !== null || this.stopping) return;
-    this.setTimeZero(this.lastT ?? 0);
+    if (this.stopping) return;
+    this.guard(() => {
+      this.setTimeZero(this.lastT ?? 0);
+      this.rebuild();
+    });
+  }
+
+  /** A new fit window (run time, s; null: open end): the analyzer is rebuilt over the kept readings. */
+  setFitWindow(window: { from_s: number | null; to_s: number | null }): void {
+    if (this.stopping) return;
+    const { from_s: _f, to_s: _t, ...rest } = this.analyzerOptions;
+    this.analyzerOptions = {
+      ...rest, ...(window.from_s !== null ? { from_s: window.from_s } : {}), ...(window.to_s !== null ? { to_s: window.to_s } : {}),
+    };
+    this.guard(() => this.rebuild());
+  }
+
+  private rebuild(): void {
+    const create = this.opts.createAnalyzer;
+    if (!create) throw new Error('this run session was made without an analyzer factory, so it cannot refit with a new time zero or window');
+    this.analyzer = create(this.analyzerOptions);
+    this.analysisFault = null;
+    for (let i = 0; i < this.kept.t.length; i++) this.analyseKept(this.kept.t[i]!, this.kept.a[i]!);
   }
 
   /** A note at this point of the run. */
@@ -90,7 +126,7 @@ export class Recorder {
   }
 
   /** Stops the recording: the source is closed, the stop and end lines written, the file closed. */
-  stop(reason: StopReason, detail: string): Promise<RecorderOutcome> {
+  stop(reason: StopReason, detail: string): Promise<RunSessionOutcome> {
     if (this.stopping) return this.stopping;
     this.stopping = this.doStop(reason, detail, null);
     return this.stopping;
@@ -100,7 +136,7 @@ export class Recorder {
     return this.analyzer.result();
   }
 
-  progress(): RecorderProgress {
+  progress(): RunSessionProgress {
     const j = this.journal.progress();
     return {
       phase: this.phase,
@@ -119,7 +155,7 @@ export class Recorder {
     };
   }
 
-  private async doStop(reason: StopReason, detail: string, error: string | null): Promise<RecorderOutcome> {
+  private async doStop(reason: StopReason, detail: string, error: string | null): Promise<RunSessionOutcome> {
     const wasRecording = this.phase;
     this.phase = 'stopped';
     if (this.blankTimer) clearTimeout(this.blankTimer);
@@ -135,6 +171,13 @@ export class Recorder {
       try {
         if (writeError === null) {
           this.flushRejected(true);
+          const settled = finalResult(this.analyzer);
+          if (settled) {
+            this.journal.event({
+              ev: 'fitSettings', h: this.h(), t: this.lastT,
+              from_s: settled.window.from_s, to_s: settled.window.to_s, targetHalfLives: settled.targetHalfLives, precision: this.analyzerOptions.precision ?? DEFAULT_PRECISION,
+            });
+          }
           this.journal.event({ ev: 'stop', h: this.h(), t: this.lastT, reason, detail: detail || reason });
           this.journal.close(this.rejected);
         } else {
@@ -145,7 +188,7 @@ export class Recorder {
         this.journal.abandon();
       }
     }
-    const outcome: RecorderOutcome = {
+    const outcome: RunSessionOutcome = {
       reason: writeError !== null && reason !== 'error' ? 'error' : reason,
       detail: wasRecording === 'blank' && reason === 'error' ? `during the blank: ${detail}` : detail,
       error: writeError,
@@ -170,49 +213,27 @@ export class Recorder {
   }
 
   private onSourceEvent(e: SourceEvent): void {
-    switch (e.type) {
-      case 'reading':
-        this.onReading(e.reading);
-        break;
-      case 'status':
-        this.onStatus(e.status);
-        break;
-      case 'rejected':
-        this.rejected = { ...this.rejected, ...e.counts };
-        this.rejectedDirtySince_ms ??= this.now();
-        this.flushRejected(false);
-        break;
-      case 'gap':
-        this.gaps++;
-        this.journal.event({
-          ev: 'gap', h: this.h(), t: this.lastT,
-          from_h: this.journal.hostOffset_ms(e.from_ms), to_h: this.journal.hostOffset_ms(e.to_ms), reason: e.reason,
-        });
-        break;
-      case 'warning':
-        this.warn(e.message);
-        break;
-      case 'blank':
-        this.journal.event({
-          ev: 'blank', h: this.h(), t: e.blank.deviceTime_s,
-          detail: `blank of ${e.blank.points} readings at ${e.blank.wavelength_nm} nm (net ${e.blank.netBlank_counts} counts, dark ${e.blank.dark_counts})`,
-          noise_AU: e.blank.noise_AU, drift_AUperMin: e.blank.drift_AUperMin,
-          reference: { net_counts: e.blank.netBlank_counts, dark_counts: e.blank.dark_counts, points: e.blank.points, wavelength_nm: e.blank.wavelength_nm },
-        });
-        for (const w of e.blank.warnings) this.warn(w);
-        if (this.blankTimer) clearTimeout(this.blankTimer);
-        this.blankTimer = null;
-        if (this.phase === 'blank') this.phase = this.opts.timeZero === 'manual' ? 'waitingForTimeZero' : 'recording';
-        break;
-      case 'spectrum':
-        // Spectra serve the wavelength choice on screen; the run record keeps the single-wavelength feed.
-        break;
+    if (e.type === 'reading') return this.onReading(e.reading);
+    if (e.type === 'rejected') {
+      this.rejected = { ...this.rejected, ...e.counts };
+      this.rejectedDirtySince_ms ??= this.now();
+      return this.flushRejected(false);
+    }
+    const line = recordLineFor(e, { h: this.h(), t: this.lastT, hostOffset_ms: (ms) => this.journal.hostOffset_ms(ms) });
+    if (line) this.journal.event(line);
+    if (e.type === 'status') this.onStatus(e.status);
+    else if (e.type === 'gap') this.gaps++;
+    else if (e.type === 'warning') this.count(e.message);
+    else if (e.type === 'blank') {
+      for (const w of e.blank.warnings) this.warn(w);
+      if (this.blankTimer) clearTimeout(this.blankTimer);
+      this.blankTimer = null;
+      if (this.phase === 'blank') this.phase = this.opts.timeZero === 'manual' ? 'waitingForTimeZero' : 'recording';
     }
   }
 
   private onStatus(status: SourceStatus): void {
     this.status = status;
-    this.journal.event({ ev: 'status', h: this.h(), t: this.lastT, status: { ...status } });
     if (status.kind === 'connected' && status.identity) this.onIdentity(status.identity);
     if (status.kind === 'ended') void this.stop('sourceEnded', status.detail);
   }
@@ -253,14 +274,27 @@ export class Recorder {
       this.journal.event({ ev: 'meta', h: this.h(), t: r.deviceTime_s, run: { wavelength_nm: r.wavelength_nm } });
       this.wavelength_nm = r.wavelength_nm;
     }
+    if (!this.firstReadingSeen) {
+      this.firstReadingSeen = true;
+      const late = this.opts.warnLateStart ? lateStartWarning(r.deviceTime_s) : null;
+      if (late) this.warn(late);
+    }
     const tz = this.timeZeroRule();
     // Readings during the blank (a device that sends them anyway) are kept, but the run has not begun.
-    if (this.timeZero_s === null && tz !== 'manual' && this.phase !== 'blank') this.setTimeZero(tz === 'firstReading' ? r.deviceTime_s : tz.deviceTime_s);
+    if (this.timeZero_s === null && tz !== 'manual' && this.phase !== 'blank') {
+      if (tz === 'firstReading') this.setTimeZero(r.deviceTime_s);
+      else if ('deviceTime_s' in tz) this.setTimeZero(tz.deviceTime_s);
+      // The instrument started the reaction itself: the header's reactionStart_s says so, no `mixed` line.
+      else this.timeZero_s = tz.reactionStart_s;
+    }
     const before = this.journal.progress().readings;
     this.journal.reading(r);
     if (this.journal.progress().readings === before) return; // left out (time backwards): not analysed either
     this.lastT = r.deviceTime_s;
     this.flushRejected(false);
+    if (this.phase === 'blank') return;
+    this.kept.t.push(r.deviceTime_s);
+    this.kept.a.push(r.absorbance);
     if (this.timeZero_s === null || r.deviceTime_s < this.timeZero_s) return;
     const t = r.deviceTime_s - this.timeZero_s;
     this.runTime_s = t;
@@ -276,6 +310,12 @@ export class Recorder {
       const advice = safeResult(this.analyzer)?.stop;
       if (advice?.suggested) void this.stop('advice', advice.reason);
     }
+  }
+
+  /** A kept reading (device time) into a rebuilt analyzer, from time zero on. */
+  private analyseKept(deviceTime_s: number, absorbance: number): void {
+    if (this.timeZero_s === null || deviceTime_s < this.timeZero_s) return;
+    this.analyse(deviceTime_s - this.timeZero_s, absorbance);
   }
 
   /** A fault of the analysis is a warning, not the end of the run: the readings keep going to the record. */
@@ -303,10 +343,15 @@ export class Recorder {
   }
 
   private warn(message: string): void {
+    this.journal.event({ ev: 'warning', h: this.h(), t: this.lastT, message });
+    this.count(message);
+  }
+
+  /** A warning (already in the record) for the progress line. */
+  private count(message: string): void {
     this.warnings++;
     this.lastWarning = message;
     this.lastWarningAt_ms = this.now();
-    this.journal.event({ ev: 'warning', h: this.h(), t: this.lastT, message });
   }
 
   /** Rejected-line totals go into the record at most once a second (a noisy line can reject hundreds). */
@@ -319,6 +364,16 @@ export class Recorder {
 
   private h(): number {
     return this.journal.hostOffset_ms(this.now());
+  }
+}
+
+/** The refit over every reading at the stop (the last scheduled refit may be readings behind), or null when the analyzer fails. */
+function finalResult(analyzer: RunAnalyzerLike): AnalysisResult | null {
+  try {
+    return analyzer.flush ? analyzer.flush() : analyzer.result();
+  } catch {
+    // A fault of the analysis must not keep the record from closing.
+    return null;
   }
 }
 

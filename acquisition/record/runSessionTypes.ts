@@ -1,5 +1,5 @@
 /** What the recorder is given, what it reports while it runs, and what it says when it stops. */
-import type { AnalysisResult, RunAnalyzerLike } from '../../kinetics/analysisTypes';
+import type { AnalysisResult, AnalyzerOptions, RunAnalyzerLike } from '../../kinetics/analysisTypes';
 import type { Journal } from './journal';
 import type { DeviceIdentity, RejectCounts, ReadingSource, SourceStatus } from '../sources/sourceTypes';
 
@@ -8,14 +8,21 @@ export type StopReason = 'user' | 'signal' | 'limit' | 'advice' | 'sourceEnded' 
 /**
  * Where time zero is: at the first reading (the headless default: the device is started
  * once the reagents are mixed), at a given device time (an instrument whose clock starts
- * at mixing, like the simulator), or when `markMixed()` is called.
+ * at mixing), at the device time the instrument itself started the reaction (the
+ * simulator; the header's `reactionStart_s` says so and no `mixed` line is written), or
+ * when `markMixed()` is called. A later `markMixed()` moves time zero in every case.
  */
-export type TimeZero = 'firstReading' | { deviceTime_s: number } | 'manual';
+export type TimeZero = 'firstReading' | { deviceTime_s: number } | { reactionStart_s: number } | 'manual';
 
-export interface RecorderOptions {
+export interface RunSessionOptions {
   source: ReadingSource;
   journal: Journal;
   analyzer: RunAnalyzerLike;
+  /** Makes the analyzer afresh for a new time zero or fit window; `analyzerOptions` are the options `analyzer` was made with. */
+  createAnalyzer?: (options: AnalyzerOptions) => RunAnalyzerLike;
+  analyzerOptions?: AnalyzerOptions;
+  /** Warn when the first reading's device time is well above 0 (a serial instrument already part-way through its run). */
+  warnLateStart?: boolean;
   timeZero?: TimeZero;
   /** The wavelength written in the record's header, so that a device reading at another is recorded as a change. */
   wavelength_nm?: number | null;
@@ -31,7 +38,7 @@ export interface RecorderOptions {
   wallClock?: () => Date;
 }
 
-export interface RecorderProgress {
+export interface RunSessionProgress {
   phase: 'opening' | 'blank' | 'waitingForTimeZero' | 'recording' | 'stopped';
   /** Readings handed to the journal, and the device time of the last. */
   journalled: number;
@@ -50,7 +57,7 @@ export interface RecorderProgress {
   lastWarning: string | null;
 }
 
-export interface RecorderOutcome {
+export interface RunSessionOutcome {
   reason: StopReason;
   detail: string;
   /** Set when the record could not be written to the end: the one-line message. */
