@@ -26,6 +26,8 @@ export interface StopPointSummary {
   /** The model k is compared in: the whole run's driving model (its verdict, or first order while undecided). */
   model: ModelName;
   k: number | null;
+  /** k's unit as the analysis names it. */
+  kUnit: string;
   kStdErr: number | null;
   kCI95: [number, number] | null;
   halfLivesElapsed: number | null;
@@ -58,7 +60,7 @@ const INTEGER_ORDERS: readonly string[] = ['zero', 'first', 'second'];
 function summarise(r: AnalysisResult, model: ModelName, time_s: number): StopPointSummary {
   const m = r.models[model];
   return {
-    time_s, model, k: m.k, kStdErr: m.kStdErr, kCI95: m.kCI95, halfLivesElapsed: r.halfLivesElapsed,
+    time_s, model, k: m.k, kUnit: r.units.k[model], kStdErr: m.kStdErr, kCI95: m.kCI95, halfLivesElapsed: r.halfLivesElapsed,
     verdictOrder: r.verdict.order, orderDecided: r.verdict.order !== 'undecided',
   };
 }
@@ -72,7 +74,7 @@ function replay(readings: TrainingReadings, options: AnalyzerOptions): AnalysisR
 /** Number words for the summary; kept here so a shared rounding module can replace them in one place. */
 const fmt = {
   halfLives: (x: number): string => x.toFixed(1),
-  percent: (x: number): string => `${Math.round(100 * Math.abs(x))}%`,
+  percent: (x: number): string => `${(100 * Math.abs(x)).toFixed(Math.abs(x) < 0.1 ? 1 : 0)}%`,
   minutes: (x: number): string => (Math.abs(x) < 10 ? Math.abs(x).toFixed(1) : Math.abs(x).toFixed(0)),
   sigmas: (x: number): string => Math.abs(x).toFixed(1),
 };

@@ -17,7 +17,7 @@ const verdictOrder = z.enum(['zero', 'first', 'second', 'fractional', 'noSimpleL
 const model = z.enum(['zero', 'first', 'second', 'nth']);
 
 const stopPointSchema = z.object({
-  time_s: num, model, k: nullableNum, kStdErr: nullableNum, kCI95: z.tuple([num, num]).nullable(),
+  time_s: num, model, k: nullableNum, kUnit: z.string(), kStdErr: nullableNum, kCI95: z.tuple([num, num]).nullable(),
   halfLivesElapsed: nullableNum, verdictOrder, orderDecided: z.boolean(),
 });
 
