@@ -3,9 +3,8 @@
  * such notes live in a sidecar beside it (run.jsonl → run.notes.jsonl), also JSON Lines
  * and also append-only.
  */
-import { closeSync, existsSync, fstatSync, fsyncSync, ftruncateSync, openSync, readFileSync, writeSync } from 'node:fs';
-import { JournalError } from './journalFs';
-import { writeProblem } from './writeFailure';
+import { existsSync, readFileSync } from 'node:fs';
+import { appendJsonLine } from './appendLine';
 import { isoWithLocalOffset, sidecarNoteSchema, type SidecarNote } from './runRecordFormat';
 import { RunRecordError } from './journalReader';
 
@@ -20,28 +19,7 @@ export function appendNote(recordPath: string, note: { note: string; author?: st
   }
   const entry = sidecarNoteSchema.parse({ wall: isoWithLocalOffset(now), author: note.author ?? null, t: note.t ?? null, note: note.note });
   const path = sidecarPath(recordPath);
-  const fd = openSync(path, 'a');
-  const bytes = Buffer.from(JSON.stringify(entry) + '\n', 'utf8');
-  const before = fstatSync(fd).size;
-  try {
-    // As in the journal: a short write is finished, and a refused one is taken back, so no torn note sits before the next.
-    for (let done = 0; done < bytes.length; ) {
-      const n = writeSync(fd, bytes, done, bytes.length - done);
-      if (!(n > 0)) throw Object.assign(new Error('the disk accepted no more bytes'), { code: 'ENOSPC' });
-      done += n;
-    }
-    fsyncSync(fd);
-  } catch (err) {
-    try {
-      ftruncateSync(fd, before);
-    } catch {
-      // The reader skips a torn last note.
-    }
-    const { problem, why } = writeProblem(err);
-    throw new JournalError(`${path}: the note could not be saved (${why}); the notes saved before it are kept; free space or check the disk, then add it again.`, null, problem);
-  } finally {
-    closeSync(fd);
-  }
+  appendJsonLine(path, entry, 'the note');
   return entry;
 }
 

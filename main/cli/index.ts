@@ -20,6 +20,7 @@ const commands: Record<string, CommandEntry> = {
   emulate: { summary: 'play an instrument on a serial port, speaking the line protocol', load: () => import('./commands/emulate') },
   record: { summary: 'record a run from a serial instrument, headless', load: () => import('./commands/record') },
   export: { summary: 'write a recorded run as JCAMP-DX or annotated CSV', load: () => import('./commands/export') },
+  train: { summary: 'score a trainee\'s stop on a recorded run; list the attempts kept', load: () => import('./commands/train') },
   serve: { summary: 'serve the screens on a loopback web host (127.0.0.1, with a token)', load: () => import('./commands/serve') },
   start: { summary: 'start the desktop app (falls back to the loopback host without Electron)', load: () => import('./commands/start') },
 };
