@@ -6,6 +6,7 @@ import { DEMO_RUN, simulateRun } from '../../kinetics/reactionModel';
 import { demoHeader } from '../../test/fixtures/demoRecordHeader';
 import { Journal } from '../record/journal';
 import { RunFileError, loadRun } from './runFile';
+import { RUN_RECORD_VERSION } from '../record/runRecordFormat';
 
 let dir: string;
 beforeEach(() => {
@@ -37,7 +38,7 @@ describe('loadRun reads run records as well as CSV', () => {
     const { record, csv } = writeBoth('demo');
     const fromRecord = await loadRun(record);
     const fromCsv = await loadRun(csv);
-    expect(fromRecord.source).toEqual({ path: record, format: 'runRecord', version: 1, demo: true, calibration: null });
+    expect(fromRecord.source).toEqual({ path: record, format: 'runRecord', version: RUN_RECORD_VERSION, demo: true, calibration: null });
     expect(fromCsv.source.format).toBe('csv');
     // Time is measured from the mixed event; the reading before it (the baseline) is left out.
     expect(Array.from(fromRecord.time_s)).toEqual(Array.from(fromCsv.time_s));

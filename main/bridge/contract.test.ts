@@ -30,15 +30,15 @@ describe('bridge contract', () => {
   it('refuses malformed requests with a one-line reason naming the field', () => {
     const bad: [unknown, string][] = [
       [{ type: 'launchMissiles' }, 'type'],
-      [{ type: 'setWavelength', wavelength_nm: Number.NaN }, 'wavelength_nm'],
-      [{ type: 'setWavelength', wavelength_nm: 5000 }, 'wavelength_nm'],
-      [{ type: 'chooseSource', source: { kind: 'serial', path: '/dev/ttyS0', baud: 1234 } }, 'source.baud'],
-      [{ type: 'chooseSource', source: { kind: 'replay', file: '../../etc/passwd' } }, 'source.file'],
-      [{ type: 'chooseSource', source: { kind: 'replay', file: '..' } }, 'source.file'],
-      [{ type: 'markEvent', note: 'x'.repeat(LIMITS.maxNote + 1) }, 'note'],
+      [{ type: 'setWavelength', wavelength_nm: Number.NaN }, 'the wavelength (nm) must be a number'],
+      [{ type: 'setWavelength', wavelength_nm: 5000 }, 'the wavelength (nm) must be at most'],
+      [{ type: 'chooseSource', source: { kind: 'serial', path: '/dev/ttyS0', baud: 1234 } }, 'the baud rate'],
+      [{ type: 'chooseSource', source: { kind: 'replay', file: '../../etc/passwd' } }, 'the recorded run (file name)'],
+      [{ type: 'chooseSource', source: { kind: 'replay', file: '..' } }, 'the recorded run (file name)'],
+      [{ type: 'markEvent', note: 'x'.repeat(LIMITS.maxNote + 1) }, 'the note'],
       [{ type: 'setFitWindow', window: { from_s: 50, to_s: 10 } }, 'window'],
-      [{ type: 'start', extra: 1 }, 'message'],
-      ['start', 'message'],
+      [{ type: 'start', extra: 1 }, 'the request is not accepted'],
+      ['start', 'the request'],
     ];
     for (const [input, field] of bad) {
       const r = parseRequest(input);

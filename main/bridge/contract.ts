@@ -392,6 +392,7 @@ const FIELD_WORDS: Record<string, string> = {
   'source.speed': 'the speed',
   'source.baud': 'the baud rate',
   'source.path': 'the serial port',
+  'source.file': 'the recorded run (file name)',
   note: 'the note',
 };
 

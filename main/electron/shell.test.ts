@@ -193,7 +193,7 @@ describe('Electron shell wiring (fake Electron API)', () => {
     expect(((await invoke(frame(APP_URL), { type: 'getState' }, 'extra')) as AnyReply).ok).toBe(false);
     const malformed = (await invoke(frame(APP_URL), { type: 'setWavelength', wavelength_nm: 'red' })) as AnyReply;
     expect(malformed.ok).toBe(false);
-    if (!malformed.ok) expect(malformed.error).toContain('wavelength_nm');
+    if (!malformed.ok) expect(malformed.error).toContain('the wavelength (nm');
   });
 
   it('sends events to the page only after it has loaded and been caught up', () => {
